@@ -1,0 +1,5 @@
+import sys
+
+from esdsurge.cli import main
+
+sys.exit(main())

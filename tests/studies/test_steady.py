@@ -1,0 +1,156 @@
+"""Steady state against hand calculations with Darcy–Weisbach and the orifice equation."""
+
+import math
+
+import numpy as np
+import pytest
+
+from esdsurge.errors import SteadyStateError
+from esdsurge.model import (
+    G,
+    Case,
+    Close,
+    Fluid,
+    Pipe,
+    Pump,
+    Route,
+    Tank,
+    Valve,
+)
+from esdsurge.steady import quasi_steady_closure, steady_state
+
+WATER = Fluid(
+    name="water",
+    density=998.2,
+    bulk_modulus=2.19e9,
+    vapour_pressure_abs=2339.0,
+    viscosity=1.0016e-3,
+    temperature=293.15,
+)
+ATM = 101_325.0
+
+
+def pipe(name, length, d, f=None, z0=0.0, z1=0.0):
+    return Pipe(
+        name=name,
+        length=length,
+        inside_diameter=d,
+        wall=0.01,
+        youngs_modulus=207e9,
+        poisson=0.3,
+        roughness=4.5e-5,
+        profile=((0.0, z0), (length, z1)),
+        friction_factor=f,
+    )
+
+
+def valve(name, area):
+    return Valve(name=name, valve_type="ball", flow_area=area, diameter=0.3)
+
+
+def test_gravity_line_matches_darcy_weisbach_with_given_friction_factor():
+    # Darcy–Weisbach with a fixed friction factor: dH = (f L / D + 1/(A_eff/A)^2) V^2 / 2g
+    # (Darcy–Weisbach head loss; orifice equation Q = A_eff sqrt(2 g dH)); common practice, no source
+    d, length, f, dh = 0.3, 1000.0, 0.02, 10.0
+    area = math.pi * d * d / 4
+    a_eff = 0.5 * area
+    route = Route(
+        name="r",
+        elements=(
+            Tank(name="a", surface=dh),
+            pipe("p", length, d, f),
+            valve("v", a_eff),
+            Tank(name="b", surface=0.0),
+        ),
+    )
+    case = Case(name="c", route="r", product="water")
+    s = steady_state(route, WATER, case, ATM)
+    v = math.sqrt(2 * G * dh / (f * length / d + (area / a_eff) ** 2))
+    assert s.flow == pytest.approx(v * area, rel=1e-8)
+    # pressures at the ends: p = rho g (H - z) on absolute pressure head
+    p_end = s.element("p").p_out_abs
+    assert p_end == pytest.approx(ATM + WATER.density * G * (dh - f * length / d * v * v / (2 * G)))
+
+
+def test_rate_is_held_by_throttling_the_pump_and_the_excess_is_reported():
+    # pump H = 60 - 100 Q^2 (Q m3/s); friction f L/D V^2/2g; balance by hand; common practice, no source
+    d, length, f = 0.3, 1000.0, 0.02
+    area = math.pi * d * d / 4
+    curve = tuple((q, 60.0 - 100.0 * q * q) for q in (0.0, 0.1, 0.2, 0.3))
+    route = Route(
+        name="r",
+        elements=(
+            Tank(name="a", surface=5.0),
+            Pump(name="p1", curve=curve, pushes=1),
+            pipe("line", length, d, f),
+            Tank(name="b", surface=15.0),
+        ),
+    )
+    rate = 0.15
+    case = Case(name="c", route="r", product="water", rate=rate)
+    s = steady_state(route, WATER, case, ATM)
+    assert s.flow == pytest.approx(rate)
+    v = rate / area
+    hf = f * length / d * v * v / (2 * G)
+    expected = (60.0 - 100.0 * rate**2) - (15.0 - 5.0) - hf
+    assert s.throttled_head == pytest.approx(expected, rel=1e-6)
+    assert s.throttle_at == "p1"
+    # unthrottled: 60 - 100 Q^2 = 10 + k Q^2  =>  Q = sqrt(50 / (100 + k))
+    k = f * length / d / (2 * G * area * area)
+    assert s.natural_flow == pytest.approx(math.sqrt(50.0 / (100.0 + k)), rel=1e-6)
+    with pytest.raises(SteadyStateError, match="not reachable.*at most"):
+        steady_state(route, WATER, Case(name="c", route="r", product="water", rate=1.0), ATM)
+
+
+def test_discharge_flows_towards_the_shore():
+    curve = tuple((q, 60.0 - 100.0 * q * q) for q in (0.0, 0.1, 0.2, 0.3))
+    route = Route(
+        name="r",
+        elements=(
+            Tank(name="shore", surface=10.0),
+            pipe("line", 500.0, 0.3, 0.02),
+            Pump(name="ship pumps", curve=curve, pushes=-1, count=2),
+            Tank(name="ship", surface=0.0),
+        ),
+    )
+    s = steady_state(route, WATER, Case(name="c", route="r", product="water"), ATM)
+    assert s.flow < 0
+    # the station head is what the two units give at half the flow each (affinity, parallel)
+    q1 = abs(s.flow) / 2
+    assert s.pump_heads["ship pumps"] == pytest.approx(60 - 100 * q1 * q1, rel=1e-9)
+
+
+def test_quasi_steady_closure_falls_to_zero_and_is_monotone():
+    d = 0.3
+    area = math.pi * d * d / 4
+    route = Route(
+        name="r",
+        elements=(
+            Tank(name="a", surface=20.0),
+            pipe("p", 2000.0, d, 0.02),
+            valve("v", 0.9 * area),
+            Tank(name="b", surface=0.0),
+        ),
+    )
+    case = Case(name="c", route="r", product="water")
+    ev = Close(element="v", at=1.0, stroke=10.0)
+    t = np.linspace(0, 12, 121)
+    q = quasi_steady_closure(route, WATER, case, ATM, ev, t)
+    s = steady_state(route, WATER, case, ATM)
+    assert q[0] == pytest.approx(s.flow)
+    assert q[-1] == 0.0
+    assert np.all(np.diff(q) <= 1e-12)
+    # every point satisfies the head balance with the valve at its travel: Darcy–Weisbach in the
+    # pipe plus the orifice equation through A_eff * phi(travel); common practice, no source
+    from esdsurge.physics import valves
+
+    char = valves.inherent_characteristic("ball")
+    for tk, qk in zip(t, q, strict=True):
+        phi = float(valves.relative_flow(char, valves.travel_at(ev.travel, ev.stroke, tk - ev.at)))
+        if phi == 0.0:
+            assert qk == 0.0
+            continue
+        v = qk / area
+        a_open = 0.9 * area
+        loss = 0.02 * 2000.0 / d * v * v / (2 * G) + qk * qk / (2 * G * (a_open * phi) ** 2)
+        assert loss == pytest.approx(20.0, rel=1e-6)
