@@ -46,6 +46,9 @@ class Fmt:
 
     def dp(self, dp: float, digits: int = 1) -> str:
         """A pressure difference [Pa] (the caller appends g for gauge)."""
+        dp = dp + 0.0  # no negative zero
+        if abs(dp) < 0.5 * 10.0 ** (-digits) * (PSI if self.us else 1e5):
+            dp = 0.0
         if self.us:
             return f"{dp / PSI:.{max(digits - 1, 0)}f} psi"
         return f"{dp / 1e5:.{digits}f} bar"

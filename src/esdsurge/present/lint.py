@@ -12,6 +12,7 @@ from rich.text import Text
 from esdsurge import __version__
 from esdsurge.present.cautions import CAUTION
 from esdsurge.present.fmt import Fmt
+from esdsurge.steady import ElementState
 from esdsurge.studies.derive import CaseDerived, Derived, RouteDerived
 
 KIND_MARK = {
@@ -59,6 +60,11 @@ def _route_table(rd: RouteDerived, f: Fmt) -> Panel:
 
 def _case_block(cd: CaseDerived, f: Fmt) -> Panel:
     c = cd.case
+
+    def pump_head(es: ElementState) -> float:
+        assert cd.steady is not None
+        return cd.steady.pump_heads.get(es.name, 0.0)
+
     lines: list[RenderableType] = []
     head = Text()
     head.append(f"route {c.route}, product {c.product} ")
@@ -81,7 +87,7 @@ def _case_block(cd: CaseDerived, f: Fmt) -> Panel:
 
     t = Table(box=None, pad_edge=False, header_style="bold")
     t.add_column("element", no_wrap=True)
-    t.add_column("velocity", justify="right")
+    t.add_column("velocity / head", justify="right")
     t.add_column("pressure in", justify="right")
     t.add_column("pressure out", justify="right")
     t.add_column("lowest along", justify="right")
@@ -98,9 +104,7 @@ def _case_block(cd: CaseDerived, f: Fmt) -> Panel:
             low += f" @ {f.length(es.x_p_min)}"
         t.add_row(
             es.name,
-            f.speed(abs(es.velocity)) if es.kind != "pump" else f"+{f.head(es.head_change * 1)}"
-            if es.head_change >= 0
-            else f.head(es.head_change),
+            f.speed(abs(es.velocity)) if es.kind != "pump" else f"adds {f.head(pump_head(es))}",
             f.p_gauge(es.p_in_abs),
             f.p_gauge(es.p_out_abs),
             low,
@@ -130,7 +134,7 @@ def _case_block(cd: CaseDerived, f: Fmt) -> Panel:
         )
         ht.add_row(
             "instant closure",
-            f"Joukowsky ρaV = {f.dp(h.joukowsky_instant)} "
+            f"Joukowsky ρaV = {f.dp(h.joukowsky_instant)} in {h.governing} "
             f"(V = {f.speed(h.velocity)}, a = {f.wave_speed(h.local_wave_speed)})",
         )
         ht.add_row(
@@ -235,6 +239,7 @@ def lint_json(d: Derived) -> dict[str, Any]:
         if cd.hand is not None:
             h = cd.hand
             entry["closing_element"] = h.valve
+            entry["joukowsky_element"] = h.governing
             entry["joukowsky_instant_bar"] = _r(h.joukowsky_instant / 1e5)
             entry["effective_closure_s"] = _r(h.effective_closure)
             entry["stroke_s"] = _r(h.stroke)

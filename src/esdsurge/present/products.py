@@ -15,15 +15,19 @@ def products_view(items: list[dict[str, Any]], f: Fmt, temperature: float) -> Re
     t = Table(title=f"built-in products at {f.temperature(temperature)}", header_style="bold")
     t.add_column("product", no_wrap=True)
     t.add_column("density", justify="right")
-    t.add_column("bulk modulus (isentropic)", justify="right")
+    t.add_column("Ks isentropic", justify="right", no_wrap=True)
     t.add_column("sound speed", justify="right")
     t.add_column("vapour pressure", justify="right")
     t.add_column("viscosity", justify="right")
-    t.add_column("valid", justify="right")
+    t.add_column("valid range", justify="right", no_wrap=True)
     for p in items:
         name = p["name"]
         if p.get("aliases"):
             name += f" ({', '.join(p['aliases'])})"
+        valid = f"{f.temperature(p['t_min_K'])} to {f.temperature(p['t_max_K'])}"
+        if p["density_kg_m3"] is None:
+            t.add_row(name, "—", "—", "—", "—", "—", valid + " (outside)")
+            continue
         t.add_row(
             name,
             f.density(p["density_kg_m3"]),
@@ -31,7 +35,7 @@ def products_view(items: list[dict[str, Any]], f: Fmt, temperature: float) -> Re
             f.wave_speed(p["sound_speed_m_s"]),
             f.p_abs(p["vapour_pressure_Pa_abs"], 3),
             f.viscosity(p["viscosity_Pa_s"]),
-            f"{f.temperature(p['t_min_K'])} to {f.temperature(p['t_max_K'])}",
+            valid,
         )
     src = Table(title="where the values come from", header_style="bold", show_lines=False)
     src.add_column("product", no_wrap=True)

@@ -15,7 +15,7 @@ import numpy as np
 from esdsurge.errors import EsdsurgeError
 from esdsurge.limits import ResolvedLimits, resolve
 from esdsurge.lineup import LineData, sections
-from esdsurge.model import Case, Close, Fluid, Release, Route, Tank, Terminal
+from esdsurge.model import G, Case, Close, Fluid, Release, Route, Tank, Terminal
 from esdsurge.physics import handcalc
 from esdsurge.steady import SteadyState, quasi_steady_closure, steady_state
 
@@ -24,9 +24,10 @@ from esdsurge.steady import SteadyState, quasi_steady_closure, steady_state
 class HandChecks:
     """Hand checks at a case's first closing element.
 
-    valve : the element; side_length : line length from it back to the source tank along the
+    valve : the element; governing : the element on the liquid side with the largest
+        rho a V (used for the instant-closure rise); side_length : line length from it back to the source tank along the
         flow [m]; side_period : 2 L / a of that side [s]; wave_speed : equivalent wave speed of
-        that side, L / sum(L_i / a_i) [m/s]; velocity : in the element just upstream [m/s];
+        that side, L / sum(L_i / a_i) [m/s]; velocity : in the governing element [m/s];
         local_wave_speed : of that element [m/s]
     joukowsky_instant : rho a V for an instant stop [Pa]
     effective_closure : Q0 / max|dQ/dt| of the quasi-steady closure [s]
@@ -36,6 +37,7 @@ class HandChecks:
     """
 
     valve: str
+    governing: str
     side_length: float
     side_period: float
     wave_speed: float
@@ -120,29 +122,42 @@ def hand_checks(
     # the side the liquid comes from: towards the shore for flow to the carrier
     if state.flow >= 0.0:
         side = [ln for ln in lines[:iv] if ln.wave_speed]
-        up = side[-1] if side else None
     else:
         side = [ln for ln in lines[iv + 1 :] if ln.wave_speed]
-        up = side[0] if side else None
-    if up is None:
+    if not side:
         return None
     length = sum(ln.length for ln in side)
     travel_time = sum(ln.length / ln.wave_speed for ln in side)  # type: ignore[operator]
     a_eq = length / travel_time
-    v = abs(state.flow) / up.area
     rho = fluid.density
+    # instant closure: the largest rho a V among the elements on the liquid side (a short hose
+    # next to the valve passes the stiffer line's rise on within a few milliseconds)
+    def rise(ln: LineData) -> float:
+        assert ln.wave_speed is not None
+        return handcalc.joukowsky_pressure(rho, ln.wave_speed, abs(state.flow) / ln.area)
+
+    up = max(side, key=rise)
     assert up.wave_speed is not None
-    dp_instant = handcalc.joukowsky_pressure(rho, up.wave_speed, v)
+    v = abs(state.flow) / up.area
+    dp_instant = rise(up)
     horizon = close.at + close.stroke * 1.05
     times = np.linspace(0.0, horizon, 801)
     flows = quasi_steady_closure(
         route, fluid, case, terminal.atmosphere_abs, close, times, state=state
     )
     t_eff = handcalc.effective_closure_time(times, np.abs(flows))
-    dh = handcalc.surge_head_estimate(up.wave_speed, v, length, t_eff)
     period = 2.0 * travel_time
+    if t_eff <= period:
+        estimate = dp_instant
+    else:
+        # Michaud for a series line: dH = 2 sum(L_i V_i) / (g t_c), i.e. an equivalent line of
+        # length L with the length-weighted velocity; never above the instant rise
+        v_eq = sum(ln.length * abs(state.flow) / ln.area for ln in side) / length
+        dh = handcalc.michaud_head(length, v_eq, t_eff)
+        estimate = min(dp_instant, dh * rho * G)
     return HandChecks(
         valve=close.element,
+        governing=up.name,
         side_length=length,
         side_period=period,
         wave_speed=a_eq,
@@ -151,7 +166,7 @@ def hand_checks(
         joukowsky_instant=dp_instant,
         effective_closure=t_eff,
         stroke=close.stroke,
-        estimate=dh * rho * 9.80665,
+        estimate=estimate,
         regime="rapid" if t_eff <= period else "slow",
     )
 
