@@ -80,6 +80,76 @@ def cmd_lint(args: argparse.Namespace) -> int:
     return exit_code
 
 
+def _quantity(text: str, unit: str, option: str) -> float:
+    """A command-line quantity (``"1500 m^3/h"``, ``"30 s"``) in SI; a bare number is in ``unit``."""
+    from esdsurge.terminal.quantities import QuantityError, quantity
+
+    kind = {"s": "time", "m^3/h": "flow"}[unit]
+    written = text.strip()
+    try:
+        float(written)
+        written = f"{written} {unit}"
+    except ValueError:
+        pass
+    try:
+        value = quantity(written, kind)
+    except QuantityError as exc:
+        raise UsageError(f"{option} {text!r}: {exc}") from None
+    if not value > 0.0:
+        raise UsageError(f"{option} {text!r}: must be greater than zero")
+    return value
+
+
+def _progress(args: argparse.Namespace):
+    """A progress display on a terminal (not with --json), else nothing."""
+    import contextlib
+
+    if args.json or not sys.stderr.isatty():
+        return contextlib.nullcontext(None)
+    from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+
+    return Progress(
+        SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
+        console=_err(), transient=True,
+    )
+
+
+def cmd_check(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
+    from esdsurge.present.check import check_json, check_view
+    from esdsurge.studies.check import check
+
+    stroke = _quantity(args.stroke, "s", "--stroke") if args.stroke else None
+    rate = _quantity(args.rate, "m^3/h", "--rate") if args.rate else None
+    results = []
+    for path in args.files:
+        terminal = _load(path)
+        names = _check_case_names(terminal, args.case)
+        with _progress(args) as prog:
+            task = prog.add_task("running", total=None) if prog else None
+
+            def tell(name: str, prog=prog, task=task) -> None:
+                if prog is not None:
+                    prog.update(task, description=f"running case: {name}")
+
+            res = check(terminal, names, stroke=stroke, rate=rate, product=args.product,
+                        progress=tell)
+        results.append(res)
+        if args.plot:
+            from esdsurge.present.plots import write_case_plots
+
+            folder = Path(args.plot)
+            for cc in res.cases:
+                write_case_plots(cc, folder, terminal.atmosphere_abs, args.units)
+        if not args.json:
+            _out().print(check_view(res, Fmt(args.units, terminal.atmosphere_abs)))
+    if args.json:
+        objs = [check_json(r) for r in results]
+        _emit_json(objs[0] if len(objs) == 1 else {"files": objs})
+    return EXIT_OK if all(r.ok for r in results) else EXIT_LIMIT
+
+
 def cmd_products(args: argparse.Namespace) -> int:
     from esdsurge.physics.products import describe_builtins
     from esdsurge.present.products import products_view
@@ -121,6 +191,22 @@ def build_parser() -> argparse.ArgumentParser:
     lint.add_argument("files", nargs="+", metavar="FILE")
     common(lint)
     lint.set_defaults(func=cmd_lint)
+
+    chk = sub.add_parser(
+        "check",
+        help="run the ESD cases and judge every element against its limits",
+        description="Run the ESD cases of terminal files with the method of characteristics and "
+        "say, element by element, whether the limits hold.",
+    )
+    chk.add_argument("files", nargs="+", metavar="FILE")
+    common(chk)
+    chk.add_argument("--stroke", metavar="TIME",
+                     help="stroke of each case's first closing valve, e.g. '30 s' (what-if)")
+    chk.add_argument("--rate", metavar="RATE",
+                     help="transfer rate, e.g. '1500 m^3/h' (what-if)")
+    chk.add_argument("--product", metavar="NAME", help="run every case with this product")
+    chk.add_argument("--plot", metavar="DIR", help="write PNG figures of each case into DIR")
+    chk.set_defaults(func=cmd_check)
 
     prods = sub.add_parser("products", help="list the built-in products with values and sources")
     prods.add_argument(

@@ -23,6 +23,7 @@ class ResolvedLimits:
     min_basis : what sets it (vacuum rating or the product's vapour pressure)
     steady_max_gauge : highest allowed pressure at steady state (design pressure, or the
         rating) [Pa gauge], or ``None``
+    min_is_vapour : the minimum is the vapour pressure, i.e. no column separation is allowed
     """
 
     max_gauge: float | None
@@ -30,6 +31,7 @@ class ResolvedLimits:
     min_abs: float
     min_basis: str
     steady_max_gauge: float | None
+    min_is_vapour: bool = True
 
 
 def _bar(p: float) -> str:
@@ -85,5 +87,7 @@ def resolve(element: Element, fluid: Fluid) -> ResolvedLimits:
         min_basis = f"minimum pressure {lim.min_pressure_abs / 1e5:.2f} bara"
     else:
         min_abs = pv
-        min_basis = f"vapour pressure of {fluid.name} {pv / 1e5:.3f} bara"
-    return ResolvedLimits(max_gauge, max_basis, min_abs, min_basis, steady_max)
+        min_basis = f"vapour pressure of {fluid.name} {pv / 1e5:.3f} bara (no column separation)"
+    return ResolvedLimits(
+        max_gauge, max_basis, min_abs, min_basis, steady_max, min_is_vapour=min_abs == pv
+    )
