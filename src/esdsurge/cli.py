@@ -81,7 +81,10 @@ def cmd_lint(args: argparse.Namespace) -> int:
 
 
 def _quantity(text: str, unit: str, option: str) -> float:
-    """A command-line quantity (``"1500 m^3/h"``, ``"30 s"``) in SI; a bare number is in ``unit``."""
+    """A command-line quantity (``"1500 m^3/h"``, ``"30 s"``) in SI.
+
+    A bare number is taken in ``unit``.
+    """
     from esdsurge.terminal.quantities import QuantityError, quantity
 
     kind = {"s": "time", "m^3/h": "flow"}[unit]
@@ -109,8 +112,11 @@ def _progress(args: argparse.Namespace):
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
     return Progress(
-        SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
-        console=_err(), transient=True,
+        SpinnerColumn(),
+        TextColumn("{task.description}"),
+        TimeElapsedColumn(),
+        console=_err(),
+        transient=True,
     )
 
 
@@ -133,8 +139,9 @@ def cmd_check(args: argparse.Namespace) -> int:
                 if prog is not None:
                     prog.update(task, description=f"running case: {name}")
 
-            res = check(terminal, names, stroke=stroke, rate=rate, product=args.product,
-                        progress=tell)
+            res = check(
+                terminal, names, stroke=stroke, rate=rate, product=args.product, progress=tell
+            )
         results.append(res)
         if args.plot:
             from esdsurge.present.plots import write_case_plots
@@ -200,10 +207,12 @@ def build_parser() -> argparse.ArgumentParser:
     )
     chk.add_argument("files", nargs="+", metavar="FILE")
     common(chk)
-    chk.add_argument("--stroke", metavar="TIME",
-                     help="stroke of each case's first closing valve, e.g. '30 s' (what-if)")
-    chk.add_argument("--rate", metavar="RATE",
-                     help="transfer rate, e.g. '1500 m^3/h' (what-if)")
+    chk.add_argument(
+        "--stroke",
+        metavar="TIME",
+        help="stroke of each case's first closing valve, e.g. '30 s' (what-if)",
+    )
+    chk.add_argument("--rate", metavar="RATE", help="transfer rate, e.g. '1500 m^3/h' (what-if)")
     chk.add_argument("--product", metavar="NAME", help="run every case with this product")
     chk.add_argument("--plot", metavar="DIR", help="write PNG figures of each case into DIR")
     chk.set_defaults(func=cmd_check)

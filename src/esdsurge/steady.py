@@ -315,9 +315,7 @@ def steady_state(
         flow, throttle=(throttle_at, k_thr) if throttle_at else None, fixed_friction=True
     )
     elements = _march(bal, flow, changes)
-    pump_heads = {
-        e.name: bal.pump_head(e, flow) for e in route.elements if isinstance(e, Pump)
-    }
+    pump_heads = {e.name: bal.pump_head(e, flow) for e in route.elements if isinstance(e, Pump)}
     return SteadyState(
         case=case.name,
         route=route.name,

@@ -24,11 +24,23 @@ def test_lint_json_has_the_documented_keys_for_every_demo(capsys, path):
     data = json.loads(out)  # nothing but JSON on stdout
     for items in data["routes"].values():
         for item in items:
-            assert {"name", "kind", "length_m", "inside_diameter_m", "wall_m", "wave_speed_m_s",
-                    "period_s"} <= set(item)
+            assert {
+                "name",
+                "kind",
+                "length_m",
+                "inside_diameter_m",
+                "wall_m",
+                "wave_speed_m_s",
+                "period_s",
+            } <= set(item)
     for case in data["cases"]:
-        assert {"name", "rate_m3h", "elements", "joukowsky_instant_bar",
-                "effective_closure_s"} <= set(case)
+        assert {
+            "name",
+            "rate_m3h",
+            "elements",
+            "joukowsky_instant_bar",
+            "effective_closure_s",
+        } <= set(case)
         assert case["rate_m3h"] > 0
         for el in case["elements"]:
             assert {"name", "p_in_barg", "p_out_barg"} <= set(el)
@@ -46,8 +58,14 @@ def test_lint_human_summary_carries_units_and_cautions(capsys):
 
 
 def test_lint_json_rate_matches_the_file(capsys):
-    code, out, _ = run(capsys, "lint", str(ROOT / "terminals" / "jetty.yaml"), "--json",
-                       "--case", "loading, shore ESD valve closes")
+    code, out, _ = run(
+        capsys,
+        "lint",
+        str(ROOT / "terminals" / "jetty.yaml"),
+        "--json",
+        "--case",
+        "loading, shore ESD valve closes",
+    )
     case = json.loads(out)["cases"][0]
     assert case["rate_m3h"] == pytest.approx(1200.0)
     # Joukowsky rho a V in the shore line (ASME B36.10M 16 in STD bore 387.35 mm)
@@ -55,8 +73,9 @@ def test_lint_json_rate_matches_the_file(capsys):
     shore = json.loads(out)["routes"]["loading"][2]
     rho = 740.5  # gasoline at 20 degC, the built-in value shown by `esdsurge products`
     # Joukowsky (1898): dp = rho a dV
-    assert case["joukowsky_instant_bar"] == pytest.approx(rho * shore["wave_speed_m_s"] * v / 1e5,
-                                                          rel=2e-3)
+    assert case["joukowsky_instant_bar"] == pytest.approx(
+        rho * shore["wave_speed_m_s"] * v / 1e5, rel=2e-3
+    )
 
 
 def test_bad_file_gives_exit_2_with_line_and_key(tmp_path, capsys):
@@ -74,8 +93,13 @@ def test_bad_file_gives_exit_2_with_line_and_key(tmp_path, capsys):
 
 
 def test_unknown_case_is_a_usage_error(capsys):
-    code, out, err = run(capsys, "lint", str(ROOT / "terminals" / "jetty.yaml"), "--case",
-                         "loading shore ESD valve closes")
+    code, out, err = run(
+        capsys,
+        "lint",
+        str(ROOT / "terminals" / "jetty.yaml"),
+        "--case",
+        "loading shore ESD valve closes",
+    )
     assert code == 2
     assert "did you mean" in err
 
@@ -89,7 +113,18 @@ def test_products_json_lists_every_builtin_with_sources(capsys):
     code, out, _ = run(capsys, "products", "--json")
     assert code == 0
     names = {p["name"] for p in json.loads(out)["products"]}
-    assert {"gasoline", "diesel", "jet fuel", "light crude", "heavy fuel oil", "methanol",
-            "ethanol", "toluene", "xylene", "styrene", "water"} <= names
+    assert {
+        "gasoline",
+        "diesel",
+        "jet fuel",
+        "light crude",
+        "heavy fuel oil",
+        "methanol",
+        "ethanol",
+        "toluene",
+        "xylene",
+        "styrene",
+        "water",
+    } <= names
     for p in json.loads(out)["products"]:
         assert p["sources"]["bulk_modulus"]

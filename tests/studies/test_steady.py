@@ -7,10 +7,10 @@ import pytest
 
 from esdsurge.errors import SteadyStateError
 from esdsurge.model import (
-    G,
     Case,
     Close,
     Fluid,
+    G,
     Pipe,
     Pump,
     Route,
@@ -50,7 +50,8 @@ def valve(name, area):
 
 def test_gravity_line_matches_darcy_weisbach_with_given_friction_factor():
     # Darcy–Weisbach with a fixed friction factor: dH = (f L / D + 1/(A_eff/A)^2) V^2 / 2g
-    # (Darcy–Weisbach head loss; orifice equation Q = A_eff sqrt(2 g dH)); common practice, no source
+    # (Darcy–Weisbach head loss; orifice equation Q = A_eff sqrt(2 g dH));
+    # common practice, no source
     d, length, f, dh = 0.3, 1000.0, 0.02, 10.0
     area = math.pi * d * d / 4
     a_eff = 0.5 * area
@@ -73,7 +74,8 @@ def test_gravity_line_matches_darcy_weisbach_with_given_friction_factor():
 
 
 def test_rate_is_held_by_throttling_the_pump_and_the_excess_is_reported():
-    # pump H = 60 - 100 Q^2 (Q m3/s); friction f L/D V^2/2g; balance by hand; common practice, no source
+    # pump H = 60 - 100 Q^2 (Q m3/s); friction f L/D V^2/2g; balance by hand;
+    # common practice, no source
     d, length, f = 0.3, 1000.0, 0.02
     area = math.pi * d * d / 4
     curve = tuple((q, 60.0 - 100.0 * q * q) for q in (0.0, 0.1, 0.2, 0.3))

@@ -68,7 +68,9 @@ def _case_block(cd: CaseDerived, f: Fmt) -> Panel:
     lines: list[RenderableType] = []
     head = Text()
     head.append(f"route {c.route}, product {c.product} ")
-    head.append(f"({f.density(cd.fluid.density)}, sound speed {f.wave_speed(cd.fluid.sound_speed)}, ")
+    head.append(
+        f"({f.density(cd.fluid.density)}, sound speed {f.wave_speed(cd.fluid.sound_speed)}, "
+    )
     head.append(f"vapour pressure {f.p_abs(cd.fluid.vapour_pressure_abs, 3)})")
     lines.append(head)
     if cd.steady is None:
@@ -149,7 +151,9 @@ def _case_block(cd: CaseDerived, f: Fmt) -> Panel:
         )
         lines.append(Panel(ht, title="hand checks", title_align="left", border_style="dim"))
     style = "red" if cd.breaches else "none"
-    return Panel(Group(*lines), title=f"case [b]{c.name}[/b]", title_align="left", border_style=style)
+    return Panel(
+        Group(*lines), title=f"case [b]{c.name}[/b]", title_align="left", border_style=style
+    )
 
 
 def lint_view(d: Derived, f: Fmt) -> RenderableType:

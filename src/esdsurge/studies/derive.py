@@ -15,7 +15,7 @@ import numpy as np
 from esdsurge.errors import EsdsurgeError
 from esdsurge.limits import ResolvedLimits, resolve
 from esdsurge.lineup import LineData, sections
-from esdsurge.model import G, Case, Close, Fluid, Release, Route, Tank, Terminal
+from esdsurge.model import Case, Close, Fluid, G, Release, Route, Tank, Terminal
 from esdsurge.physics import handcalc
 from esdsurge.steady import SteadyState, quasi_steady_closure, steady_state
 
@@ -25,7 +25,8 @@ class HandChecks:
     """Hand checks at a case's first closing element.
 
     valve : the element; governing : the element on the liquid side with the largest
-        rho a V (used for the instant-closure rise); side_length : line length from it back to the source tank along the
+        rho a V (used for the instant-closure rise); side_length : line length from it back to
+        the source tank along the
         flow [m]; side_period : 2 L / a of that side [s]; wave_speed : equivalent wave speed of
         that side, L / sum(L_i / a_i) [m/s]; velocity : in the governing element [m/s];
         local_wave_speed : of that element [m/s]
@@ -130,6 +131,7 @@ def hand_checks(
     travel_time = sum(ln.length / ln.wave_speed for ln in side)  # type: ignore[operator]
     a_eq = length / travel_time
     rho = fluid.density
+
     # instant closure: the largest rho a V among the elements on the liquid side (a short hose
     # next to the valve passes the stiffer line's rise on within a few milliseconds)
     def rise(ln: LineData) -> float:
