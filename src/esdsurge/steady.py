@@ -209,10 +209,13 @@ class _Balance:
                 # run-out: where the fitted curve reaches zero head
                 q = max(q, _runout(h0, h1, h2) * self.running[e.name])
         if q == 0.0:
-            # gravity: velocity of free fall over the head difference through the narrowest bore
+            # gravity: free outflow over the head difference through the largest bore or valve
             dh = abs(self.h_shore - self.h_carrier) + 1.0
-            amin = min(ln.area for ln in self.lines if ln.area > 0.0)
-            q = amin * math.sqrt(2.0 * G * dh) * 1.5
+            amax = max(
+                [ln.area for ln in self.lines]
+                + [e.flow_area for e in self.route.elements if isinstance(e, VALVE_LIKE)]
+            )
+            q = amax * math.sqrt(2.0 * G * dh) * 1.5
         return q
 
 

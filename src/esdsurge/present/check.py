@@ -1,0 +1,305 @@
+"""Human and JSON views of ``esdsurge check`` (read a ``CheckResult``; compute nothing)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+from rich.console import Group, RenderableType
+from rich.panel import Panel
+from rich.rule import Rule
+from rich.table import Table
+from rich.text import Text
+
+from esdsurge import __version__
+from esdsurge.model import Close, Release, Trip
+from esdsurge.present.cautions import CAUTION
+from esdsurge.present.fmt import Fmt
+from esdsurge.studies.check import FAIL_STEADY, NO_STEADY, PASS, CaseCheck, CheckResult
+
+BARS = "▁▂▃▄▅▆▇█"
+VERDICT_STYLE = {PASS: "bold green", NO_STEADY: "bold yellow"}
+
+
+def sparkline(values: np.ndarray, width: int = 56) -> str:
+    """A one-line trace: the highest value in each of ``width`` bins, on eight levels."""
+    values = np.asarray(values, dtype=float)
+    if values.size == 0:
+        return ""
+    bins = np.array_split(values, min(width, values.size))
+    tops = np.array([b.max() for b in bins])
+    lo, hi = float(tops.min()), float(tops.max())
+    if hi - lo <= 0.0:
+        return BARS[0] * len(tops)
+    idx = np.clip(((tops - lo) / (hi - lo) * (len(BARS) - 1)).round().astype(int), 0, 7)
+    return "".join(BARS[i] for i in idx)
+
+
+def describe_events(cc: CaseCheck, f: Fmt) -> str:
+    parts = []
+    for e in sorted(cc.case.events, key=lambda e: e.at):
+        if isinstance(e, Close):
+            shape = "" if len(e.travel) == 2 else " (staged)"
+            parts.append(f"{f.time(e.at, 1)} {e.element} closes in {f.time(e.stroke, 1)}{shape}")
+        elif isinstance(e, Trip):
+            parts.append(f"{f.time(e.at, 1)} {e.element} trip")
+        elif isinstance(e, Release):
+            parts.append(f"{f.time(e.at, 1)} {e.element} releases")
+    return "; ".join(parts)
+
+
+def _element_table(cc: CaseCheck, f: Fmt) -> Table:
+    t = Table(box=None, pad_edge=False, header_style="bold", expand=False)
+    for name, just in (
+        ("", "left"),
+        ("element", "left"),
+        ("highest", "right"),
+        ("at", "right"),
+        ("lowest", "right"),
+        ("cavity", "right"),
+        ("allowed", "right"),
+        ("margin", "right"),
+    ):
+        t.add_column(name, justify=just, no_wrap=True)  # type: ignore[arg-type]
+    for ev in cc.elements:
+        mark = Text("✓", style="green") if ev.ok else Text("✗", style="bold red")
+        where = f.time(ev.t_p_max, 1)
+        if ev.kind in ("pipe", "arm", "hose"):
+            where += f", {f.length(ev.x_p_max)}"
+        lim = ev.limits
+        allowed = f"≤ {f.p_gauge_value(lim.max_gauge)}" if lim.max_gauge is not None else "—"
+        allowed += f" · ≥ {f.p_abs(lim.min_abs)}"
+        if ev.margin_max is None:
+            margin = "—"
+        else:
+            margin = f.dp(ev.margin_max)
+        if not ev.ok_min:
+            margin += " · cavity" if ev.cavity_max > 0 else f" · {f.dp(ev.margin_min)} below min"
+        style = "bold" if ev.name == cc.governing else ""
+        t.add_row(
+            mark,
+            Text(ev.name + (" ◀" if ev.name == cc.governing else ""), style=style),
+            Text(f.p_gauge(ev.p_max_abs), style="" if ev.ok_max else "bold red"),
+            where,
+            Text(f.p_abs(ev.p_min_abs), style="" if ev.ok_min else "bold red"),
+            f.volume(ev.cavity_max, 3) if ev.cavity_max > 0 else "—",
+            allowed,
+            Text(margin, style="" if ev.ok else "bold red"),
+        )
+    return t
+
+
+def _governing_line(cc: CaseCheck, f: Fmt) -> Text:
+    ev = next(e for e in cc.elements if e.name == cc.governing)
+    txt = Text("governing: ", style="bold")
+    txt.append(f"{ev.name} ({ev.kind}) — ")
+    if not ev.ok_min:
+        if ev.cavity_max > 0.0 and ev.limits.min_is_vapour:
+            what = f"column separation, vapour cavity {f.volume(ev.cavity_max, 4)}"
+            if ev.kind in ("pipe", "arm", "hose"):
+                what += f" at {f.length(ev.x_cavity_max)}"
+        else:
+            what = f"lowest {f.p_abs(ev.p_min_abs)}"
+        txt.append(f"{what} against {ev.limits.min_basis}", style="bold red")
+    elif ev.limits.max_gauge is not None:
+        txt.append(
+            f"highest {f.p_gauge(ev.p_max_abs)} against {ev.limits.max_basis}",
+            style="" if ev.ok_max else "bold red",
+        )
+    else:
+        txt.append(f"lowest {f.p_abs(ev.p_min_abs)} against {ev.limits.min_basis}")
+    return txt
+
+
+def case_view(cc: CaseCheck, f: Fmt) -> RenderableType:
+    verdict = cc.verdict.upper()
+    style = VERDICT_STYLE.get(cc.verdict, "bold red")
+    title = Text(f" {cc.case.name} ", style="bold")
+    parts: list[RenderableType] = [Rule(title, style=style.replace("bold ", ""), align="left")]
+    head = Text()
+    head.append(f"{verdict}", style=style + " reverse")
+    head.append(f"  route {cc.case.route} · {cc.case.product}")
+    s = cc.derived.steady
+    if s is not None:
+        direction = "to the carrier" if s.flow >= 0 else "to the shore"
+        head.append(f" · {f.flow(s.flow)} {direction}")
+    parts.append(head)
+    parts.append(Text(f"after the trigger: {describe_events(cc, f)}", style="dim"))
+    if cc.verdict == NO_STEADY:
+        parts.append(Text(f"no steady state: {cc.derived.problem}", style="bold yellow"))
+        return Group(*parts)
+    if cc.verdict == FAIL_STEADY:
+        for b in cc.derived.breaches:
+            p = f.p_gauge(b.pressure_abs) if b.what == "max" else f.p_abs(b.pressure_abs)
+            parts.append(
+                Text(
+                    f"fails before any surge: {b.element} runs at {p} at steady state, "
+                    f"outside {b.basis}",
+                    style="bold red",
+                )
+            )
+    parts.append(_element_table(cc, f))
+    if cc.governing:
+        parts.append(_governing_line(cc, f))
+    if cc.manifold and cc.traces:
+        tr = cc.traces[0]
+        line = Text()
+        line.append(f"{cc.manifold}: ", style="bold")
+        line.append(sparkline(tr.p_abs), style="cyan")
+        line.append(
+            f"  peak {f.p_gauge(cc.manifold_peak_abs)} at {f.time(cc.t_manifold_peak, 1)}"
+            f" (trace {f.time(float(tr.time[0]), 0)}–{f.time(float(tr.time[-1]), 0)}, "
+            f"{f.p_gauge(float(tr.p_abs.min()))} to {f.p_gauge(float(tr.p_abs.max()))})"
+        )
+        parts.append(line)
+    h = cc.derived.hand
+    if h is not None and s is not None:
+        closing = next((e for e in cc.elements if e.name == h.valve), None)
+        sim = ""
+        if closing is not None:
+            run_p = closing.p_max_abs
+            start = s.element(h.valve).p_in_abs if s.flow >= 0 else s.element(h.valve).p_out_abs
+            sim = f"; simulated rise at the valve {f.dp(run_p - start)}"
+        parts.append(
+            Text(
+                f"why: instant closure would give Joukowsky {f.dp(h.joukowsky_instant)} "
+                f"({h.governing}); the {f.time(h.stroke, 1)} stroke acts as "
+                f"{f.time(h.effective_closure, 1)} effective against 2L/a = "
+                f"{f.time(h.side_period)} ({h.regime}) → estimate {f.dp(h.estimate)}{sim}",
+                style="dim",
+            )
+        )
+    if cc.spill is not None:
+        txt = Text(f"volume through {cc.closing} after the trigger: {f.volume(cc.spill)}")
+        if cc.case.spill_limit is not None:
+            ok = "within" if cc.spill_ok else "ABOVE"
+            txt.append(
+                f" — {ok} the spill limit {f.volume(cc.case.spill_limit)}",
+                style="" if cc.spill_ok else "bold red",
+            )
+        parts.append(txt)
+    if cc.largest_cavity > 0.0:
+        parts.append(
+            Text(
+                f"column separation: largest vapour cavity {f.volume(cc.largest_cavity, 4)} "
+                f"in {cc.largest_cavity_at}",
+                style="yellow",
+            )
+        )
+    return Group(*parts)
+
+
+def check_view(res: CheckResult, f: Fmt) -> RenderableType:
+    t = res.terminal
+    n_fail = sum(1 for c in res.cases if not c.ok)
+    head = Text(f"{t.name}", style="bold")
+    head.append(f"  ·  {t.path}", style="dim")
+    what = []
+    if res.stroke is not None:
+        what.append(f"stroke set to {f.time(res.stroke, 1)}")
+    if res.rate is not None:
+        what.append(f"rate set to {f.flow(res.rate)}")
+    parts: list[RenderableType] = [head]
+    if what:
+        parts.append(Text("what-if: " + ", ".join(what), style="yellow"))
+    parts += [case_view(c, f) for c in res.cases]
+    summary = Text()
+    if n_fail == 0:
+        what = "the case is" if len(res.cases) == 1 else f"all {len(res.cases)} cases are"
+        summary.append(f"{what} within limits", style="bold green")
+    else:
+        summary.append(
+            f"{n_fail} of {len(res.cases)} cases outside limits: "
+            + ", ".join(c.case.name for c in res.cases if not c.ok),
+            style="bold red",
+        )
+    parts.append(Panel(summary, border_style="green" if n_fail == 0 else "red"))
+    parts.append(Text(CAUTION, style="italic dim"))
+    return Group(*parts)
+
+
+def _r(x: float | None, n: int = 4) -> float | None:
+    return None if x is None else round(float(x), n)
+
+
+def case_json(cc: CaseCheck, atm: float) -> dict[str, Any]:
+    s = cc.derived.steady
+    entry: dict[str, Any] = {
+        "name": cc.case.name,
+        "route": cc.case.route,
+        "product": cc.case.product,
+        "rate_m3h": _r(abs(s.flow) * 3600, 3) if s is not None else None,
+        "verdict": cc.verdict,
+        "governing": cc.governing,
+        "elements": [],
+        "spill_m3": _r(cc.spill),
+        "spill_limit_m3": _r(cc.case.spill_limit),
+        "closing_element": cc.closing,
+    }
+    if cc.verdict == NO_STEADY:
+        entry["problem"] = cc.derived.problem
+        return entry
+    for ev in cc.elements:
+        lim = ev.limits
+        entry["elements"].append(
+            {
+                "name": ev.name,
+                "kind": ev.kind,
+                "p_max_barg": _r((ev.p_max_abs - atm) / 1e5),
+                "t_p_max_s": _r(ev.t_p_max),
+                "x_p_max_m": _r(ev.x_p_max, 2),
+                "p_min_bara": _r(ev.p_min_abs / 1e5),
+                "t_p_min_s": _r(ev.t_p_min),
+                "x_p_min_m": _r(ev.x_p_min, 2),
+                "cavity_max_m3": _r(ev.cavity_max, 6),
+                "limit_max_barg": _r(lim.max_gauge / 1e5) if lim.max_gauge is not None else None,
+                "limit_max_basis": lim.max_basis,
+                "limit_min_bara": _r(lim.min_abs / 1e5),
+                "limit_min_basis": lim.min_basis,
+                "margin_max_bar": _r(ev.margin_max / 1e5) if ev.margin_max is not None else None,
+                "ok": ev.ok,
+            }
+        )
+    entry["manifold"] = {
+        "element": cc.manifold,
+        "p_max_barg": _r((cc.manifold_peak_abs - atm) / 1e5) if cc.manifold_peak_abs else None,
+        "t_p_max_s": _r(cc.t_manifold_peak),
+    }
+    entry["largest_cavity_m3"] = _r(cc.largest_cavity, 6)
+    entry["largest_cavity_element"] = cc.largest_cavity_at
+    entry["fails_before_surge"] = [
+        {"element": b.element, "limit": b.what, "basis": b.basis} for b in cc.derived.breaches
+    ]
+    if cc.derived.hand is not None:
+        h = cc.derived.hand
+        entry["hand_checks"] = {
+            "closing_element": h.valve,
+            "joukowsky_instant_bar": _r(h.joukowsky_instant / 1e5),
+            "effective_closure_s": _r(h.effective_closure),
+            "estimate_bar": _r(h.estimate / 1e5),
+            "period_s": _r(h.side_period),
+            "regime": h.regime,
+        }
+    run = cc.run
+    if run is not None:
+        entry["engine"] = {
+            "dt_s": _r(float(run.dt[0]), 7),  # type: ignore[attr-defined]
+            "duration_s": _r(run.duration),  # type: ignore[attr-defined]
+            "worst_wave_speed_adjustment": _r(
+                float(np.nanmax(np.abs(run.wave_speed_adjustment[0]))),
+                5,  # type: ignore[attr-defined]
+            ),
+        }
+    return entry
+
+
+def check_json(res: CheckResult) -> dict[str, Any]:
+    atm = res.terminal.atmosphere_abs
+    return {
+        "esdsurge": __version__,
+        "file": res.terminal.path,
+        "terminal": res.terminal.name,
+        "ok": res.ok,
+        "cases": [case_json(c, atm) for c in res.cases],
+        "caution": CAUTION,
+    }
