@@ -157,6 +157,80 @@ def cmd_check(args: argparse.Namespace) -> int:
     return EXIT_OK if all(r.ok for r in results) else EXIT_LIMIT
 
 
+def _study(args: argparse.Namespace, run, view, to_json) -> int:
+    """Run a study over each file with a progress display; print its view or JSON."""
+    results = []
+    for path in args.files:
+        terminal = _load(path)
+        names = _check_case_names(terminal, args.case)
+        with _progress(args) as prog:
+            task = prog.add_task("searching", total=None) if prog else None
+
+            def tell(name: str, prog=prog, task=task) -> None:
+                if prog is not None:
+                    prog.update(task, description=f"searching case: {name}")
+
+            res = run(terminal, names, tell)
+        results.append(res)
+        if not args.json:
+            _out().print(view(res, Fmt(args.units, terminal.atmosphere_abs)))
+    if args.json:
+        objs = [to_json(r) for r in results]
+        _emit_json(objs[0] if len(objs) == 1 else {"files": objs})
+    return EXIT_OK if all(r.ok for r in results) else EXIT_LIMIT
+
+
+def cmd_stroke(args: argparse.Namespace) -> int:
+    from esdsurge.present.stroke import stroke_json, stroke_view
+    from esdsurge.studies.stroke import stroke_windows
+
+    def run(terminal, names, tell):
+        return stroke_windows(terminal, names, valve=args.valve, spread=args.spread, progress=tell)
+
+    return _study(args, run, stroke_view, stroke_json)
+
+
+def cmd_rate(args: argparse.Namespace) -> int:
+    from esdsurge.present.rate import rate_json, rate_view
+    from esdsurge.studies.rate import rate_checks
+
+    def run(terminal, names, tell):
+        return rate_checks(terminal, names, spread=args.spread, progress=tell)
+
+    return _study(args, run, rate_view, rate_json)
+
+
+def cmd_report(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
+    from esdsurge.present.report import refuse_target, write_report
+    from esdsurge.studies.report import report
+
+    target = Path(args.output)
+    refuse_target(target, args.force)  # before any engine time is spent
+    terminal = _load(args.file)
+    names = _check_case_names(terminal, args.case)
+    with _progress(args) as prog:
+        task = prog.add_task("running", total=None) if prog else None
+
+        def tell(what: str, prog=prog, task=task) -> None:
+            if prog is not None:
+                prog.update(task, description=what)
+
+        res = report(terminal, names, progress=tell)
+    write_report(res, target, units=args.units, force=args.force)
+    counts = (
+        f"{res.count('needs action')} need action, {res.count('not assessed')} not assessed, "
+        f"{res.count('holds')} hold"
+    )
+    _out().print(
+        f"review pack written to {target}/ (report.html, report.md, results.json, "
+        f"figures/); checklist: {counts}",
+        markup=False,
+    )
+    return EXIT_OK if res.ok else EXIT_LIMIT
+
+
 def cmd_products(args: argparse.Namespace) -> int:
     from esdsurge.physics.products import describe_builtins
     from esdsurge.present.products import products_view
@@ -216,6 +290,58 @@ def build_parser() -> argparse.ArgumentParser:
     chk.add_argument("--product", metavar="NAME", help="run every case with this product")
     chk.add_argument("--plot", metavar="DIR", help="write PNG figures of each case into DIR")
     chk.set_defaults(func=cmd_check)
+
+    spread_help = (
+        "also search across an uncertainty band (hose and pipe wave speed, friction, valve "
+        "characteristic) and give the worst case beside the nominal"
+    )
+    stk = sub.add_parser(
+        "stroke",
+        help="the safe stroke window of each case's closing valve",
+        description="For each case, the fastest stroke of its first closing valve (or --valve) "
+        "that keeps every limit, the slowest that keeps the spill limit and max_closure_time, "
+        "what governs each end, and a recommended setting.",
+        epilog="Exit status: 0 every case has a safe window, 1 a window is empty, 2 bad input.",
+    )
+    stk.add_argument("files", nargs="+", metavar="FILE")
+    common(stk)
+    stk.add_argument("--valve", metavar="NAME", help="vary this valve's stroke instead")
+    stk.add_argument("--spread", action="store_true", help=spread_help)
+    stk.set_defaults(func=cmd_stroke)
+
+    rte = sub.add_parser(
+        "rate",
+        help="the highest transfer rate at which the ESD keeps every limit, and the other limits",
+        description="For each case, the highest transfer rate at which its ESD as set keeps "
+        "every limit, beside the other rate limits (running pumps, static electricity, carrier "
+        "venting); the lowest governs.",
+        epilog="Exit status: 0 a safe rate was found for every case, 1 not, 2 bad input.",
+    )
+    rte.add_argument("files", nargs="+", metavar="FILE")
+    common(rte)
+    rte.add_argument("--spread", action="store_true", help=spread_help)
+    rte.set_defaults(func=cmd_rate)
+
+    rep = sub.add_parser(
+        "report",
+        help="write the review pack: HTML, Markdown, JSON, figures and a checklist",
+        description="Run every study (check, stroke window, rate limits, each with its "
+        "uncertainty band) and write a review pack into DIR: report.html (self-contained), "
+        "report.md, results.json and the figures. The pack is written to a temporary folder "
+        "and moved into place at the end; an existing DIR is refused unless --force.",
+        epilog="Exit status: 0 no checklist item needs action, 1 an item needs action, "
+        "2 bad input, usage, or DIR exists.",
+    )
+    rep.add_argument("file", metavar="FILE")
+    rep.add_argument("-o", "--output", metavar="DIR", required=True, help="folder of the pack")
+    rep.add_argument(
+        "--force", action="store_true", help="replace an earlier pack in DIR (atomically)"
+    )
+    rep.add_argument(
+        "--units", choices=("si", "us"), default="si", help="units of the report's numbers"
+    )
+    rep.add_argument("--case", action="append", metavar="NAME", help="only this case (repeatable)")
+    rep.set_defaults(func=cmd_report, json=False)
 
     prods = sub.add_parser("products", help="list the built-in products with values and sources")
     prods.add_argument(

@@ -47,6 +47,9 @@ class Fluid:
     viscosity : dynamic viscosity [Pa*s]
     temperature : [K]
     sources : property name -> where its value comes from
+    conductivity : electrical conductivity [S/m], or ``None`` when not known (static-electricity
+        rate limits then take the product as a static accumulator)
+    sulphur : sulphur content as a mass fraction [-] (50 ppm = 50e-6), or ``None``
     """
 
     name: str
@@ -57,7 +60,8 @@ class Fluid:
     viscosity: float
     temperature: float
     sources: tuple[tuple[str, str], ...] = ()
-    conductivity_class: str | None = None
+    conductivity: float | None = None
+    sulphur: float | None = None
     where: Where = field(default=NOWHERE, compare=False)
 
     @property
@@ -75,7 +79,8 @@ class Fluid:
 class Limits:
     """Pressure limits of one element (``None``: not set).
 
-    design_pressure_gauge : [Pa]; the surge limit is ``design_pressure_gauge * (1 + surge_allowance)``
+    design_pressure_gauge : [Pa]; the surge limit is
+        ``design_pressure_gauge * (1 + surge_allowance)``
     surge_allowance : occasional overpressure allowed by the applicable code [-]
     rated_working_pressure_gauge : hoses, the maximum including surge [Pa]
     flange_class : ASME B16.5 class (150, 300, 600), group 1.1 rating at the product temperature
@@ -327,6 +332,29 @@ class Release(Event):
 
 EVENT_ACTIONS: dict[str, type[Event]] = {cls.action: cls for cls in (Close, Trip, Release)}
 
+#: Kinds of carrier a case may name (``Carrier.kind``).
+CARRIER_KINDS = ("ship", "barge", "rail car", "road tanker")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Carrier:
+    """What a case says about the carrier, for the rate limits other than surge.
+
+    kind : one of :data:`CARRIER_KINDS`, or ``None`` when not given
+    vent_capacity : venting capacity of the tanks being loaded [m^3/s], or ``None``
+    inlet_diameter : inside diameter of a tank inlet [m], or ``None``
+    inlets : number of tank inlets loaded at once [-]
+    fill_pipe : inside diameter of a road or rail fill pipe [m], or ``None`` (the bore of the
+        route's last line is used)
+    """
+
+    kind: str | None = None
+    vent_capacity: float | None = None
+    inlet_diameter: float | None = None
+    inlets: int = 1
+    fill_pipe: float | None = None
+    where: Where = field(default=NOWHERE, compare=False)
+
 
 @dataclass(frozen=True, kw_only=True)
 class Case:
@@ -339,6 +367,7 @@ class Case:
     spill_limit : most volume allowed through the first closing element after t = 0 [m^3]
     max_closure_time : longest time allowed from the trigger to the first closing element
         being shut [s] (e.g. a code's 30 s rule), or ``None``
+    carrier : the carrier's kind, venting and tank inlets (:class:`Carrier`), or ``None``
     """
 
     name: str
@@ -350,6 +379,7 @@ class Case:
     duration: float | None = None
     spill_limit: float | None = None
     max_closure_time: float | None = None
+    carrier: Carrier | None = None
     where: Where = field(default=NOWHERE, compare=False)
 
     def running_count(self, pump: Pump) -> int:

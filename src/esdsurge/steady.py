@@ -282,6 +282,15 @@ def steady_state(
             f"case {case.name!r}: the running pumps cannot overcome the static head "
             f"({-r0:.1f} m short at zero flow)"
         )
+    # widen the bracket until the head balance changes sign (gravity may add to the pumps)
+    for _ in range(60):
+        if res(bound) * direction < 0.0:
+            break
+        bound *= 2.0
+    else:
+        raise SteadyStateError(
+            f"case {case.name!r}: no operating point found; check the pump curves and levels"
+        )
     natural = _root(res, min(0.0, bound), max(0.0, bound))
 
     throttle_at = None

@@ -156,3 +156,27 @@ def test_quasi_steady_closure_falls_to_zero_and_is_monotone():
         a_open = 0.9 * area
         loss = 0.02 * 2000.0 / d * v * v / (2 * G) + qk * qk / (2 * G * (a_open * phi) ** 2)
         assert loss == pytest.approx(20.0, rel=1e-6)
+
+
+def test_gravity_beyond_the_pump_run_out_still_finds_the_operating_point():
+    # the head balance is still solved when gravity alone drives more than the pump's run-out;
+    # pump H = 58 - 400 Q^2 (run-out 0.38 m3/s); by hand: 46.7 + 58 - 400 Q^2 = k Q^2;
+    # common practice, no source
+    curve = tuple((q, 58.0 - 400.0 * q * q) for q in (0.0, 0.1, 0.2, 0.3))
+    d, length, f = 0.5, 200.0, 0.02
+    area = math.pi * d * d / 4
+    route = Route(
+        name="r",
+        elements=(
+            Tank(name="a", surface=51.7),
+            Pump(name="p1", curve=curve, pushes=1),
+            pipe("line", length, d, f),
+            Tank(name="b", surface=5.0),
+        ),
+    )
+    s = steady_state(route, WATER, Case(name="c", route="r", product="water"), ATM)
+    k = f * length / d / (2 * G * area * area)
+    # past run-out the fitted curve gives negative head; the station adds nothing backwards:
+    # the balance is then 46.7 = k Q^2 - pump head (which is below zero past run-out)
+    assert s.flow > 0.38
+    assert 46.7 + (58.0 - 400.0 * s.flow**2) == pytest.approx(k * s.flow**2, rel=1e-6)

@@ -109,6 +109,11 @@ class CaseCheck:
     def ok(self) -> bool:
         return self.verdict == PASS
 
+    @property
+    def limits_ok(self) -> bool:
+        """Every pressure limit holds, before and during the surge (the spill limit aside)."""
+        return self.verdict in (PASS, FAIL) and all(e.ok for e in self.elements)
+
 
 @dataclass(frozen=True)
 class CheckResult:

@@ -40,6 +40,8 @@ PRODUCT_KEYS = (
     "viscosity",
     "kinematic_viscosity",
     "temperature",
+    "conductivity",
+    "sulphur",
 )
 _ELEMENT_EXAMPLE = "'- pipe: shore line' followed by its fields"
 
@@ -168,6 +170,16 @@ def _product(reader: Reader, name: str, node: YNode, path: str, line: int) -> Fl
             partial(q.quantity, kind="kinematic viscosity"),
             check=positive,
         ),
+        "conductivity": f.value(
+            "conductivity",
+            partial(q.quantity, kind="conductivity"),
+            check=lambda c: None if c >= 0.0 else "must not be negative",
+        ),
+        "sulphur": f.value(
+            "sulphur",
+            partial(q.ratio, example="10 ppm"),
+            check=lambda s: None if 0.0 <= s <= 1.0 else "must lie between 0 and 100 %",
+        ),
     }
     for one, other in (("bulk_modulus", "sound_speed"), ("viscosity", "kinematic_viscosity")):
         if f.has(one) and f.has(other):
@@ -235,6 +247,10 @@ def _fluid(
     elif given["kinematic_viscosity"] is not None:
         values["viscosity"] = density * given["kinematic_viscosity"]
         note("viscosity", "kinematic_viscosity")
+    for key in ("conductivity", "sulphur"):
+        if given[key] is not None:
+            values[key] = given[key]
+            note(key, key)
     where = f.reader.where(line, path)
     if base is None:
         return Fluid(

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 from functools import partial
 from typing import Any
 
-from esdsurge.model import EVENT_ACTIONS, Case, Event
+from esdsurge.model import CARRIER_KINDS, EVENT_ACTIONS, Carrier, Case, Event
 from esdsurge.physics import valves
 from esdsurge.terminal import quantities as q
 from esdsurge.terminal.fields import Fields, Reader, nearest_names, positive
@@ -27,7 +27,12 @@ CASE_KEYS = (
     "duration",
     "spill_limit",
     "max_closure_time",
+    "carrier",
 )
+#: Keys of a case's ``carrier`` mapping.
+CARRIER_KEYS = ("kind", "vent_capacity", "inlet_diameter", "inlets", "fill_pipe")
+_CARRIER_EXAMPLE = "carrier: {kind: ship, vent_capacity: 1500 m^3/h, inlet_diameter: 250 mm}"
+
 #: Keys of an event by its action (the action key itself names the element).
 EVENT_KEYS: dict[str, tuple[str, ...]] = {
     "close": ("at", "close", "stroke", "travel"),
@@ -119,6 +124,7 @@ def _case(
     max_closure = f.value("max_closure_time", time, check=positive)
     running = _running(f, route, info)
     events = _events(f, route, info)
+    carrier = _carrier(f)
     if f.failed or name is None or route is None or product is None:
         return None
     return Case(
@@ -131,6 +137,43 @@ def _case(
         duration=duration,
         spill_limit=spill,
         max_closure_time=max_closure,
+        carrier=carrier,
+        where=reader.where(m.line, path),
+    )
+
+
+def _carrier(f: Fields) -> Carrier | None:
+    """The optional ``carrier`` mapping of a case (rate limits other than surge)."""
+    if not f.has("carrier"):
+        return None
+    reader = f.reader
+    path = f.key_path("carrier")
+    m = reader.mapping(f.node.entries["carrier"], path, _CARRIER_EXAMPLE)
+    if m is None:
+        f.failed = True
+        return None
+    c = Fields(reader, m, path, CARRIER_KEYS)
+    kind = c.choice("kind", CARRIER_KINDS) if c.has("kind") else None
+    length = partial(q.quantity, kind="length")
+    vent = c.value("vent_capacity", partial(q.quantity, kind="flow"), check=positive)
+    inlet = c.value("inlet_diameter", length, check=positive)
+    inlets = c.value(
+        "inlets",
+        partial(q.number, example="inlets: 2", integer=True),
+        check=lambda n: None if n >= 1 else "must be at least 1",
+    )
+    fill = c.value("fill_pipe", length, check=positive)
+    if c.has("inlets") and not c.has("inlet_diameter") and inlets is not None:
+        c.problem("inlets", "give the tank inlets' inlet_diameter too, e.g. inlet_diameter: 250 mm")
+    if c.failed:
+        f.failed = True
+        return None
+    return Carrier(
+        kind=kind,
+        vent_capacity=vent,
+        inlet_diameter=inlet,
+        inlets=int(inlets) if inlets is not None else 1,
+        fill_pipe=fill,
         where=reader.where(m.line, path),
     )
 

@@ -79,6 +79,12 @@ KINDS: dict[str, Kind] = {
         Kind("kinematic viscosity", "[length] ** 2 / [time]", "m^2/s", "0.75 cSt"),
         Kind("moment of inertia", "[mass] * [length] ** 2", "kg*m^2", "1.6 kg*m^2"),
         Kind("expansion per pressure", "[length] * [time] ** 2 / [mass]", "1/Pa", "0.4 %/bar"),
+        Kind(
+            "conductivity",
+            "[current] ** 2 * [time] ** 3 / [mass] / [length] ** 3",
+            "S/m",
+            "5 pS/m",
+        ),
     )
 }
 

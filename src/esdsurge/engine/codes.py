@@ -1,0 +1,86 @@
+"""Integer codes and array layouts shared by the grid builder and the compiled kernel.
+
+Plain Python: importing it compiles nothing.
+"""
+
+from __future__ import annotations
+
+# device kinds
+DEV_POINT = 0  # no head change (manifold)
+DEV_VALVE = 1  # valve or coupling: effective area from a table in time
+DEV_PUMP = 2  # pump station (identical units in parallel), with or without a check valve
+DEV_LOSS = 3  # fixed quadratic loss (the steady state's throttle at a pump discharge)
+
+# slots of a device's parameters (dev_par[member, device, slot])
+P_H0, P_H1, P_H2 = 0, 1, 2  # fitted curve of one unit at rated speed [m], [s/m^2], [s^2/m^5]
+P_UNITS = 3  # units running [-]
+P_PUSHES = 4  # +1 pushes towards the carrier, -1 towards the shore
+P_S0 = 5  # speed ratio before the trigger [-]
+P_TTRIP = 6  # time of the trip [s] (1e300: no trip)
+P_MODE = 7  # RUNDOWN_ANALYTIC or RUNDOWN_TORQUE
+P_TAU = 8  # run-down time constant [s]
+P_JW2 = 9  # inertia times rated speed squared, per unit [J]
+P_RHOG_ETA = 10  # rho g / best efficiency [N/m^3]
+P_QBEP = 11  # flow of one unit at the best-efficiency point, at rated speed [m^3/s]
+P_CHECK = 12  # 1 with a check valve
+L_K = 0  # fixed loss: coefficient on Q|Q| [s^2/m^5]
+N_PAR = 13
+
+# rows of the kernel's device working array (work[row, device])
+W_K = 0  # loss coefficient on Q|Q| of a valve or a fixed loss [s^2/m^5]
+W_A = 1  # pump: h0 s^2 [m]
+W_B = 2  # pump: h1 s [s/m^2]
+W_C = 3  # pump: h2 [s^2/m^5]
+W_U = 4  # pump: units running
+W_P = 5  # pump: pushes
+W_S = 6  # pump: speed ratio
+W_Q = 7  # pump: flow at the last step [m^3/s]
+W_H = 8  # pump: head gained at the last step, in route direction [m]
+W_SHUT = 9  # valve: 1 when at zero area
+N_WORK = 10
+
+# probe kinds
+PROBE_NODE = 0  # head of a node; flow leaving it (side 0) or entering it (side 1)
+PROBE_POINT = 1  # head of a chain point; flow of its connection
+PROBE_TANK = 2  # constant head; flow of its connection
+
+RUNDOWN_ANALYTIC = 0
+RUNDOWN_TORQUE = 1
+
+#: a line's envelope pass is skipped while no node moves beyond it by more than this [m]
+#: (round-off in a standing state); the envelope is then within this of the true extreme
+ENVELOPE_SLACK = 1e-7
+
+# argument groups of kernel.run_members (tuples of arrays, in this order)
+MEMBERS = ("dt_all", "nsteps_all", "n_nodes_all", "qscale_all")
+GRID = ("line_start", "line_n", "line_b", "line_r", "hv_all", "h_init", "q_init")
+CONNECTIONS = (
+    "conn_left",
+    "conn_right",
+    "conn_tank_left",
+    "conn_tank_right",
+    "conn_dev0",
+    "conn_dev1",
+    "conn_pt0",
+    "conn_active",
+)
+DEVICES = ("dev_kind", "dev_par", "tab_t", "tab_a", "tab_n", "pump_dev")
+PROBES = ("probe_kind", "probe_ref", "probe_side", "probe_conn", "probe_tank")
+OUTPUTS = (
+    "ser_h",
+    "ser_q",
+    "ser_s",
+    "env_hmax",
+    "env_kmax",
+    "env_hmin",
+    "env_kmin",
+    "env_vmax",
+    "env_kv",
+    "pt_hmax",
+    "pt_kmax",
+    "pt_hmin",
+    "pt_kmin",
+    "vol_through",
+    "h_end",
+    "vol_end",
+)

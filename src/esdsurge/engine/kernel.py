@@ -1,0 +1,370 @@
+"""The compiled time loop: method of characteristics with discrete vapour cavities, batched.
+
+Everything here is numba ``@njit(cache=True)`` on plain numpy arrays and scalars; the arrays are
+built by :mod:`esdsurge.engine.grid` and read back by :mod:`esdsurge.engine.simulate`. This
+module imports numba, so it is imported only when a transient runs (never at package import).
+
+Why hand-written: no maintained library offers a method-of-characteristics solver for series
+lines with these boundaries; the kernel is the textbook scheme, kept small.
+
+Scheme (Wylie & Streeter, *Fluid Transients in Systems*, Prentice Hall 1993, ch. 3 and 8):
+
+* Heads are piezometric on absolute pressure, ``H = z + p_abs/(rho g)`` [m]; flows [m^3/s],
+  positive towards the carrier (to the right along the route).
+* Each line (pipe, arm, hose) has ``N`` reaches of length ``dx = L/N`` with ``a dt = dx``;
+  interior nodes: :mod:`esdsurge.engine.lines`. A node keeps two flows, ``Qu`` entering from
+  the left reach and ``Qd`` leaving into the right one (they differ while it holds a cavity).
+* Connections between lines (pumps, valves, couplings, throttles, manifolds, junctions, the
+  tanks): :mod:`esdsurge.engine.chain`.
+* Batch: the leading axis of every per-member array is the batch member. Members are
+  independent simulations (each with its own grid and time step); :func:`run_members`
+  releases the GIL so that the caller runs members in parallel on threads.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from pathlib import Path
+
+import numpy as np
+from numba import njit
+
+from .chain import chain_heads, device_dh, update_chain, update_devices, update_junction
+from .codes import (
+    DEV_LOSS,
+    DEV_PUMP,
+    DEV_VALVE,
+    L_K,
+    N_WORK,
+    P_H0,
+    P_H1,
+    P_H2,
+    P_PUSHES,
+    P_S0,
+    P_UNITS,
+    PROBE_NODE,
+    PROBE_POINT,
+    W_A,
+    W_B,
+    W_C,
+    W_H,
+    W_K,
+    W_P,
+    W_Q,
+    W_S,
+    W_U,
+)
+from .lines import NONE, envelope_node, update_line
+
+
+@njit(cache=True, error_model="numpy")
+def _work(b, g, kind, dev_par, tab_a, q_conn, conn_dev0, conn_dev1):
+    """Device working values before the trigger (valves open)."""
+    nd = kind.shape[0]
+    work = np.zeros((N_WORK, nd))
+    for d in range(nd):
+        k = kind[d]
+        if k == DEV_PUMP:
+            s = dev_par[b, d, P_S0]
+            work[W_S, d] = s
+            work[W_U, d] = dev_par[b, d, P_UNITS]
+            work[W_P, d] = dev_par[b, d, P_PUSHES]
+            work[W_A, d] = dev_par[b, d, P_H0] * s * s
+            work[W_B, d] = dev_par[b, d, P_H1] * s
+            work[W_C, d] = dev_par[b, d, P_H2]
+        elif k == DEV_LOSS:
+            work[W_K, d] = dev_par[b, d, L_K]
+        elif k == DEV_VALVE:
+            a = tab_a[b, d, 0]  # the table's first row is the open area
+            work[W_K, d] = 1.0 / (2.0 * g * a * a) if a > 0.0 else 0.0
+    for c in range(conn_dev0.shape[0]):
+        for d in range(conn_dev0[c], conn_dev1[c]):
+            if kind[d] == DEV_PUMP:
+                work[W_Q, d] = q_conn[c]
+                work[W_H, d] = device_dh(d, q_conn[c], kind, work)
+    return work
+
+
+@njit(cache=True, error_model="numpy")
+def _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, pth, qscale, dt,
+                 cav_on):  # fmt: skip
+    """Update every connection to step ``n`` (``n = 0``: the chain heads of the initial state
+    only); the connection flows go to ``q_conn``, the chain heads to ``pth``."""
+    h0, qu0, qd0, h1, qu1, qd1, hv, vol = state
+    line_start, line_n, line_b, line_r = grid[0], grid[1], grid[2], grid[3]
+    left, right, tank_l, tank_r, dev0, dev1, pt0, active = conns
+    kind, dev_par = devices[0], devices[1]
+    for c in range(left.shape[0]):
+        lft = left[c]
+        rgt = right[c]
+        u = -1
+        dn = -1
+        cpl = bpl = cmr = bmr = 0.0
+        if lft >= 0:
+            u = line_start[b, lft] + line_n[b, lft]
+        if rgt >= 0:
+            dn = line_start[b, rgt]
+        if n == 0:
+            hl = h0[u] if u >= 0 else tank_l[c]
+            hr = h0[dn] if dn >= 0 else tank_r[c]
+            qc = q_conn[c]
+        else:
+            if u >= 0:
+                bb = line_b[b, lft]
+                qa = qd0[u - 1]
+                cpl = h0[u - 1] + bb * qa
+                bpl = bb + line_r[b, lft] * abs(qa)
+            if dn >= 0:
+                bb = line_b[b, rgt]
+                qb = qu0[dn + 1]
+                cmr = h0[dn + 1] - bb * qb
+                bmr = bb + line_r[b, rgt] * abs(qb)
+            if active[c]:
+                qc, hl, hr = update_chain(
+                    b, u, dn, cpl, bpl, cmr, bmr, tank_l[c], tank_r[c], dev0[c], dev1[c],
+                    q_conn[c], qscale, kind, dev_par, work, state, dt, cav_on,
+                )  # fmt: skip
+            elif u >= 0 and dn >= 0:
+                qc, hl = update_junction(u, dn, cpl, bpl, cmr, bmr, state, dt, cav_on)
+                hr = hl
+            elif u < 0:
+                hl = hr = tank_l[c]
+                qc = (hl - cmr) / bmr
+                h1[dn] = hl
+                qu1[dn] = qc
+                qd1[dn] = qc
+            else:
+                hl = hr = tank_r[c]
+                qc = (cpl - hl) / bpl
+                h1[u] = hl
+                qu1[u] = qc
+                qd1[u] = qc
+            if u >= 0:
+                envelope_node(u, n, h1[u], vol[u], envelope)
+            if dn >= 0:
+                envelope_node(dn, n, h1[dn], vol[dn], envelope)
+        q_conn[c] = qc
+        if pt0[c] >= 0:
+            if active[c]:
+                chain_heads(b, dev0[c], dev1[c], qc, hl, hr, kind, dev_par, work, pth, pt0[c])
+            else:
+                for i in range(dev1[c] - dev0[c] + 1):
+                    pth[pt0[c] + i] = hl
+
+
+@njit(cache=True, error_model="numpy", inline="always")
+def _probe(p, b, h, qu, qd, pth, q_conn, probes):
+    """Head [m] and flow [m^3/s] at probe ``p``."""
+    kind, ref, side, conn, tank = probes
+    k = kind[p]
+    if k == PROBE_NODE:
+        i = ref[b, p]
+        return h[i], (qd[i] if side[p] == 0 else qu[i])
+    if k == PROBE_POINT:
+        return pth[ref[b, p]], q_conn[conn[p]]
+    return tank[p], q_conn[conn[p]]
+
+
+@njit(cache=True, error_model="numpy")
+def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
+    """The whole time loop of batch member ``b``."""
+    dt_all, nsteps_all, n_nodes_all, qscale_all = members
+    line_start, line_n, line_b, line_r, hv_all, h_init, q_init = grid
+    kind, dev_par, tab_t, tab_a, tab_n, pump_dev = devices
+    ser_h, ser_q, ser_s, hmax_all, kmax_all, hmin_all, kmin_all, vmax_all, kv_all = out[:9]
+    pt_hmax, pt_kmax, pt_hmin, pt_kmin, vol_through, h_end, vol_end = out[9:]
+    dt = dt_all[b]
+    nn = n_nodes_all[b]
+    nlines = line_start.shape[1]
+    nconn = conns[0].shape[0]
+    npts = pt_hmax.shape[1]
+    nprobe = probes[0].shape[0]
+    nsamp = ser_h.shape[2]
+    npump = pump_dev.shape[0]
+
+    # state, double-buffered; per line, the stretch holding cavities (NONE: none)
+    h0 = h_init[b, :nn].copy()
+    qu0 = q_init[b, :nn].copy()
+    qd0 = q_init[b, :nn].copy()
+    h1 = h0.copy()
+    qu1 = qu0.copy()
+    qd1 = qd0.copy()
+    vol = np.zeros(nn)
+    hv = hv_all[b]
+    spans = np.empty((nlines, 2), dtype=np.int64)
+    spans[:, 0] = NONE
+    spans[:, 1] = -1
+    envelope = (hmax_all[b], kmax_all[b], hmin_all[b], kmin_all[b], vmax_all[b], kv_all[b])
+    for i in range(nn):
+        envelope[0][i] = h0[i]
+        envelope[2][i] = h0[i]
+
+    # connections and devices before the trigger
+    q_conn = np.empty(nconn)
+    for c in range(nconn):
+        lft = conns[0][c]
+        i = line_start[b, lft] + line_n[b, lft] if lft >= 0 else line_start[b, conns[1][c]]
+        q_conn[c] = q_init[b, i]
+    work = _work(b, g, kind, dev_par, tab_a, q_conn, conns[4], conns[5])
+    row = np.zeros(kind.shape[0], dtype=np.int64)
+    pth = np.zeros(max(npts, 1))
+    state = (h0, qu0, qd0, h1, qu1, qd1, hv, vol)
+    _connections(b, 0, state, envelope, grid, conns, devices, work, q_conn, pth,
+                 qscale_all[b], dt, cav_on)  # fmt: skip
+    for p in range(npts):
+        pt_hmax[b, p] = pth[p]
+        pt_hmin[b, p] = pth[p]
+
+    # probes at t = 0; the shore-end flows (even probes) are integrated every step, the rest
+    # is read only on the step before a sample and on the sample's step
+    pr_h = np.zeros(nprobe)
+    pr_q = np.zeros(nprobe)
+    for p in range(nprobe):
+        pr_h[p], pr_q[p] = _probe(p, b, h0, qu0, qd0, pth, q_conn, probes)
+        ser_h[b, p, 0] = pr_h[p]
+        ser_q[b, p, 0] = pr_q[p]
+    q_in = pr_q[0::2].copy()
+    ps = np.zeros(max(npump, 1))
+    for k in range(npump):
+        ps[k] = work[W_S, pump_dev[k]]
+        ser_s[b, k, 0] = ps[k]
+    next_sample = 1
+    sample_dt = duration / (nsamp - 1)
+    tol = 1e-12 * dt
+
+    t = 0.0
+    for n in range(1, nsteps_all[b] + 1):
+        t_old = t
+        t = n * dt
+        update_devices(b, t, dt, g, kind, dev_par, tab_t, tab_a, tab_n, row, work)
+        state = (h0, qu0, qd0, h1, qu1, qd1, hv, vol)
+        for ln in range(nlines):
+            update_line(
+                state, envelope, line_start[b, ln], line_n[b, ln], line_b[b, ln],
+                line_r[b, ln], dt, n, cav_on, spans[ln],
+            )  # fmt: skip
+        _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, pth,
+                     qscale_all[b], dt, cav_on)  # fmt: skip
+        for p in range(npts):
+            h = pth[p]
+            if h > pt_hmax[b, p]:
+                pt_hmax[b, p] = h
+                pt_kmax[b, p] = n
+            if h < pt_hmin[b, p]:
+                pt_hmin[b, p] = h
+                pt_kmin[b, p] = n
+
+        # volume passed each element's shore end over (0, duration] (trapezoidal)
+        if t_old < duration:
+            w_end = (min(t, duration) - t_old) / dt
+            for e in range(q_in.shape[0]):
+                q_old = q_in[e]
+                q_in[e] = _probe(2 * e, b, h1, qu1, qd1, pth, q_conn, probes)[1]
+                q_end = q_old + w_end * (q_in[e] - q_old)
+                vol_through[b, 2 * e] += 0.5 * (q_old + q_end) * w_end * dt
+        # samples, interpolated linearly between this step and the last
+        if next_sample < nsamp and next_sample * sample_dt <= t + tol:
+            for p in range(nprobe):
+                h_new, q_new = _probe(p, b, h1, qu1, qd1, pth, q_conn, probes)
+                k = next_sample
+                while k < nsamp and k * sample_dt <= t + tol:
+                    w = max((k * sample_dt - t_old) / dt, 0.0)
+                    ser_h[b, p, k] = pr_h[p] + w * (h_new - pr_h[p])
+                    ser_q[b, p, k] = pr_q[p] + w * (q_new - pr_q[p])
+                    k += 1
+            for j in range(npump):
+                s_new = work[W_S, pump_dev[j]]
+                k = next_sample
+                while k < nsamp and k * sample_dt <= t + tol:
+                    w = max((k * sample_dt - t_old) / dt, 0.0)
+                    ser_s[b, j, k] = ps[j] + w * (s_new - ps[j])
+                    k += 1
+            while next_sample < nsamp and next_sample * sample_dt <= t + tol:
+                next_sample += 1
+        if next_sample < nsamp and next_sample * sample_dt <= t + dt + tol:
+            # a sample falls within the next step: keep this step's values
+            for p in range(nprobe):
+                pr_h[p], pr_q[p] = _probe(p, b, h1, qu1, qd1, pth, q_conn, probes)
+            for j in range(npump):
+                ps[j] = work[W_S, pump_dev[j]]
+
+        h0, h1 = h1, h0
+        qu0, qu1 = qu1, qu0
+        qd0, qd1 = qd1, qd0
+
+    for i in range(nn):
+        h_end[b, i] = h0[i]
+        vol_end[b, i] = vol[i]
+
+
+@njit(cache=True, nogil=True, error_model="numpy")
+def run_members(b0, b1, cav_on, g, duration, members, grid, conns, devices, probes, out):
+    """Run the time loops of batch members ``b0 .. b1 - 1``; the results go to ``out``.
+
+    The argument groups are tuples of arrays named in :mod:`esdsurge.engine.codes`
+    (``MEMBERS``, ``GRID``, ``CONNECTIONS``, ``DEVICES``, ``PROBES``, ``OUTPUTS``). Releases
+    the GIL, so that members run in parallel on Python threads.
+    """
+    for b in range(b0, b1):
+        _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out)
+    return 0
+
+
+def empty_outputs(nb: int, nnode: int, npts: int, nprobe: int, npump: int, nsamp: int) -> dict:
+    """Allocate the kernel's output arrays (see ``codes.OUTPUTS``)."""
+    f, i = np.float64, np.int64
+    return {
+        "ser_h": np.zeros((nb, nprobe, nsamp), f),
+        "ser_q": np.zeros((nb, nprobe, nsamp), f),
+        "ser_s": np.zeros((nb, npump, nsamp), f),
+        "env_hmax": np.zeros((nb, nnode), f),
+        "env_kmax": np.zeros((nb, nnode), i),
+        "env_hmin": np.zeros((nb, nnode), f),
+        "env_kmin": np.zeros((nb, nnode), i),
+        "env_vmax": np.zeros((nb, nnode), f),
+        "env_kv": np.zeros((nb, nnode), i),
+        "pt_hmax": np.zeros((nb, npts), f),
+        "pt_kmax": np.zeros((nb, npts), i),
+        "pt_hmin": np.zeros((nb, npts), f),
+        "pt_kmin": np.zeros((nb, npts), i),
+        "vol_through": np.zeros((nb, nprobe), f),
+        "h_end": np.zeros((nb, nnode), f),
+        "vol_end": np.zeros((nb, nnode), f),
+    }
+
+
+#: the modules whose compiled code the kernel links in
+_JIT_MODULES = ("codes", "lines", "chain", "kernel")
+
+
+def _drop_stale_cache() -> None:
+    """Remove the engine's numba cache when any of its jitted sources changed since it was
+    written.
+
+    numba invalidates a cached function only when its own source file changes ("Notes on
+    caching" in the numba documentation); the kernel cached from this file would keep running a
+    stale copy of a changed ``lines.py`` or ``chain.py``. A digest of all of them, kept beside
+    the cache, catches that.
+    """
+    here = Path(__file__).resolve().parent
+    digest = hashlib.sha256(
+        b"".join((here / f"{name}.py").read_bytes() for name in _JIT_MODULES)
+    ).hexdigest()
+    folder = Path(run_members._cache.cache_path)
+    stamp = folder / "esdsurge-engine.sha256"
+    try:
+        if stamp.read_text() == digest:
+            return
+    except OSError:
+        pass
+    try:
+        for name in _JIT_MODULES:
+            for f in folder.glob(f"{name}.*.nb[ic]"):
+                f.unlink(missing_ok=True)
+        folder.mkdir(parents=True, exist_ok=True)
+        stamp.write_text(digest)
+    except OSError:
+        pass  # a read-only cache: numba falls back to compiling in memory
+
+
+_drop_stale_cache()

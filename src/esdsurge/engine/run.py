@@ -1,0 +1,160 @@
+"""What the engine takes per batch member (:class:`Variant`) and what it gives back (:class:`Run`).
+
+Both are frozen dataclasses. ``Run`` holds numpy arrays whose first axis is the batch member
+(in the order of ``Run.variants``) and, where there is one, whose second axis is the route
+element (in route order, ``Run.elements``). Pressures are absolute [Pa], flows [m^3/s] positive
+towards the carrier, times [s] from the trigger (t = 0), chainages [m] from the element's shore
+end, volumes [m^3].
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+
+@dataclass(frozen=True, kw_only=True)
+class Variant:
+    """One batch member: a variation of a case, run in the same pass as the others.
+
+    Attributes
+    ----------
+    label : free text shown with the member's results
+    rate : initial transfer rate to hold [m^3/s] (magnitude), or ``None`` for the case's own
+        (each member gets its own steady state)
+    stroke_scale : multiplies the ``stroke`` of every ``close`` event of the case [-]
+    strokes : ``(element name, stroke [s])`` pairs: the stroke of that valve's ``close`` events,
+        or the closing time of that coupling on ``release``; wins over ``stroke_scale``
+    wave_speed_scale : ``(key, factor)`` pairs multiplying the wave speed of the elements whose
+        name or kind (``pipe``, ``arm``, ``hose``) is ``key``; a name wins over a kind [-]
+    friction_scale : multiplies every line's Darcy friction factor (the steady state is solved
+        again with the scaled factors) [-]
+    characteristic_power : the relative flow coefficient of every valve and coupling is raised
+        to this power: above 1 the flow falls earlier in the travel, below 1 later [-]
+    characteristics : ``(element name, ((travel, relative flow coefficient), ...))`` pairs that
+        replace a valve's or coupling's characteristic
+    """
+
+    label: str = ""
+    rate: float | None = None
+    stroke_scale: float = 1.0
+    strokes: tuple[tuple[str, float], ...] = ()
+    wave_speed_scale: tuple[tuple[str, float], ...] = ()
+    friction_scale: float = 1.0
+    characteristic_power: float = 1.0
+    characteristics: tuple[tuple[str, tuple[tuple[float, float], ...]], ...] = ()
+
+
+@dataclass(frozen=True, kw_only=True)
+class Envelope:
+    """Pressure envelope of one batch member along the route, one value per grid node.
+
+    x : chainage along the route from the shore tank [m]
+    z : node elevation [m]
+    element : index of the route element that owns the node
+    p_max_abs, p_min_abs : highest and lowest pressure over the run [Pa]; like the per-element
+        figures they are taken at the lowest (maximum) and highest (minimum) point of the
+        node's cell, so a high point between two nodes is not missed
+    cavity_max : largest vapour cavity at the node [m^3]
+    """
+
+    x: np.ndarray
+    z: np.ndarray
+    element: np.ndarray
+    p_max_abs: np.ndarray
+    p_min_abs: np.ndarray
+    cavity_max: np.ndarray
+
+
+@dataclass(frozen=True, kw_only=True, eq=False)
+class Run:
+    """Result of one pass of the engine over a batch of variants of one case.
+
+    Attributes
+    ----------
+    case, route, product : names from the terminal file
+    variants : the batch members, in order (axis 0 of every array below)
+    elements, kinds : route element names and kinds, in route order (axis 1)
+    rate : initial flow of each member [m^3/s], signed (positive towards the carrier)
+    duration : simulated time, common to all members [s]
+    cavities : whether vapour cavities were modelled
+    rundown : pump run-down model, ``"torque"`` or ``"analytic"``
+    dt : time step of each member [s], shape (batch,)
+    reaches : grid reaches per element (0 for points), shape (batch, elements)
+    wave_speed : wave speed each member asked for [m/s] (NaN for points)
+    wave_speed_used : L / (N dt), the wave speed the grid runs with [m/s]
+    wave_speed_adjustment : wave_speed_used / wave_speed - 1 [-]
+    p_max_abs, t_p_max, x_p_max : highest pressure on each element [Pa], when [s] and where [m]
+    p_min_abs, t_p_min, x_p_min : lowest pressure on each element [Pa], when [s], where [m]
+    cavity_max, t_cavity_max, x_cavity_max : largest vapour cavity on each element [m^3], when
+        [s] and where [m] (a point element reports the cavities at the nodes beside it)
+    volume_through : volume that passed each element's shore end over (0, duration] [m^3]; for
+        a closing valve this is the volume let through after the trigger (the spill)
+    time : sample times of the series [s], shape (samples,)
+    p_in_abs, p_out_abs : pressure at each element's shore and carrier end [Pa], shape
+        (batch, elements, samples); a pump's ends lie outside its discharge throttle (as in
+        the steady state), and its extremes include the pump flange inside the throttle
+    q_in, q_out : flow at each element's shore and carrier end [m^3/s], same shape
+    pumps : names of the pump elements
+    pump_speed : speed ratio to rated speed of each pump [-], shape (batch, pumps, samples)
+    envelopes : per member, the pressure envelope along the route (:class:`Envelope`)
+    initial_mismatch : head left over at the carrier tank when the engine's own relations are
+        walked along the route with the steady flow [m] (a check of the steady state; about 0)
+    volume_balance_error : volume in from the shore tank minus volume out to the carrier tank
+        minus the change of stored volume (liquid compression, wall stretch and cavities) [m^3]
+    node_updates : grid nodes times time steps, summed over the members [-]
+    loop_seconds : wall time of the compiled time loop for the whole batch [s]
+    steady : the steady state of each member (``esdsurge.steady.SteadyState``)
+    """
+
+    case: str
+    route: str
+    product: str
+    variants: tuple[Variant, ...]
+    elements: tuple[str, ...]
+    kinds: tuple[str, ...]
+    rate: np.ndarray
+    duration: float
+    cavities: bool
+    rundown: str
+    dt: np.ndarray
+    reaches: np.ndarray
+    wave_speed: np.ndarray
+    wave_speed_used: np.ndarray
+    wave_speed_adjustment: np.ndarray
+    p_max_abs: np.ndarray
+    t_p_max: np.ndarray
+    x_p_max: np.ndarray
+    p_min_abs: np.ndarray
+    t_p_min: np.ndarray
+    x_p_min: np.ndarray
+    cavity_max: np.ndarray
+    t_cavity_max: np.ndarray
+    x_cavity_max: np.ndarray
+    volume_through: np.ndarray
+    time: np.ndarray
+    p_in_abs: np.ndarray
+    p_out_abs: np.ndarray
+    q_in: np.ndarray
+    q_out: np.ndarray
+    pumps: tuple[str, ...]
+    pump_speed: np.ndarray
+    envelopes: tuple[Envelope, ...]
+    initial_mismatch: np.ndarray
+    volume_balance_error: np.ndarray
+    node_updates: int
+    loop_seconds: float
+    steady: tuple[object, ...] = field(repr=False)
+
+    @property
+    def batch(self) -> int:
+        """Number of batch members."""
+        return len(self.variants)
+
+    def index(self, element: str) -> int:
+        """Position of a route element by name (axis 1 of the per-element arrays)."""
+        try:
+            return self.elements.index(element)
+        except ValueError:
+            raise KeyError(element) from None
