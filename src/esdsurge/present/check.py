@@ -82,7 +82,7 @@ def _element_table(cc: CaseCheck, f: Fmt) -> Table:
             Text(f.p_gauge(ev.p_max_abs), style="" if ev.ok_max else "bold red"),
             where,
             Text(f.p_abs(ev.p_min_abs), style="" if ev.ok_min else "bold red"),
-            f.volume(ev.cavity_max, 3) if ev.cavity_max > 0 else "—",
+            f.cavity(ev.cavity_max) if ev.cavity_max > 0 else "—",
             allowed,
             Text(margin, style="" if ev.ok else "bold red"),
         )
@@ -95,7 +95,7 @@ def _governing_line(cc: CaseCheck, f: Fmt) -> Text:
     txt.append(f"{ev.name} ({ev.kind}) — ")
     if not ev.ok_min:
         if ev.cavity_max > 0.0 and ev.limits.min_is_vapour:
-            what = f"column separation, vapour cavity {f.volume(ev.cavity_max, 4)}"
+            what = f"column separation, vapour cavity {f.cavity(ev.cavity_max)}"
             if ev.kind in ("pipe", "arm", "hose"):
                 what += f" at {f.length(ev.x_cavity_max)}"
         else:
@@ -181,7 +181,7 @@ def case_view(cc: CaseCheck, f: Fmt) -> RenderableType:
     if cc.largest_cavity > 0.0:
         parts.append(
             Text(
-                f"column separation: largest vapour cavity {f.volume(cc.largest_cavity, 4)} "
+                f"column separation: largest vapour cavity {f.cavity(cc.largest_cavity)} "
                 f"in {cc.largest_cavity_at}",
                 style="yellow",
             )
@@ -212,6 +212,12 @@ def check_view(res: CheckResult, f: Fmt) -> RenderableType:
             f"{n_fail} of {len(res.cases)} cases outside limits: "
             + ", ".join(c.case.name for c in res.cases if not c.ok),
             style="bold red",
+        )
+    if n_fail:
+        summary.append(
+            "\nnext: `esdsurge stroke FILE` gives each case's safe stroke window, "
+            "`esdsurge rate FILE` the highest safe transfer rate",
+            style="dim",
         )
     parts.append(Panel(summary, border_style="green" if n_fail == 0 else "red"))
     parts.append(Text(CAUTION, style="italic dim"))

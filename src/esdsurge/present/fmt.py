@@ -96,6 +96,13 @@ class Fmt:
             return f"{v / BARREL:.{digits}f} bbl"
         return f"{v:.{digits}f} m³"
 
+    def cavity(self, v: float) -> str:
+        """A vapour cavity volume [m^3]: litres (or US gallons) when small."""
+        if self.us:
+            gal = v / US_GALLON
+            return f"{gal:.3g} US gal" if gal < 100 else f"{v / BARREL:.1f} bbl"
+        return f"{v * 1000:.3g} L" if v < 0.1 else f"{v:.2f} m³"
+
     def time(self, t: float | None, digits: int = 2) -> str:
         if t is None:
             return "—"

@@ -177,6 +177,24 @@ def _verdicts(run, member: int, limits: dict[str, ResolvedLimits], atm: float):
     return tuple(out)
 
 
+def _governing(
+    elements: tuple[ElementVerdict, ...], failing: list[ElementVerdict], atm: float
+) -> str | None:
+    """The element that governs a case: the worst failure, else the smallest relative margin.
+
+    An overpressure ranks by how far the peak exceeds the limit (relative); column separation
+    by the size of the largest cavity. Overpressure ranks first: it is what bursts a hose.
+    """
+    if not elements:
+        return None
+    over = [e for e in failing if not e.ok_max]
+    if over:
+        return min(over, key=lambda e: e.worst_ratio(atm)).name
+    if failing:
+        return max(failing, key=lambda e: (e.cavity_max, -e.margin_min)).name
+    return min(elements, key=lambda e: e.worst_ratio(atm)).name
+
+
 def judge(terminal: Terminal, case: Case, derived: CaseDerived, run, member: int = 0) -> CaseCheck:
     """Turn member ``member`` of ``run`` into a verdict for ``case``."""
     atm = terminal.atmosphere_abs
@@ -202,11 +220,7 @@ def judge(terminal: Terminal, case: Case, derived: CaseDerived, run, member: int
         )
     elements = _verdicts(run, member, derived.limits, atm)
     failing = [e for e in elements if not e.ok]
-    governing = (
-        failing[0].name
-        if failing
-        else (min(elements, key=lambda e: e.worst_ratio(atm)).name if elements else None)
-    )
+    governing = _governing(elements, failing, atm)
     first = first_closing_event(case)
     closing = first.element if first is not None else None
     spill = spill_ok = None
