@@ -165,7 +165,8 @@ def case_view(cc: CaseCheck, f: Fmt) -> RenderableType:
                 f"why: instant closure would give Joukowsky {f.dp(h.joukowsky_instant)} "
                 f"({h.governing}); the {f.time(h.stroke, 1)} stroke acts as "
                 f"{f.time(h.effective_closure, 1)} effective against 2L/a = "
-                f"{f.time(h.side_period)} ({h.regime}) → estimate {f.dp(h.estimate)}{sim}",
+                f"{f.time(h.side_period)} ({h.regime}) → estimate {f.dp(h.estimate)} with the "
+                f"pumps running throughout{sim}",
                 style="dim",
             )
         )
