@@ -120,6 +120,34 @@ def _progress(args: argparse.Namespace):
     )
 
 
+def _study(args: argparse.Namespace, run, view, to_json, after=None, verb="searching") -> int:
+    """Run a study over each file with a progress display; print its view or JSON.
+
+    ``after(terminal, result)`` runs once per file after the study (e.g. to write figures).
+    """
+    results = []
+    for path in args.files:
+        terminal = _load(path)
+        names = _check_case_names(terminal, args.case)
+        with _progress(args) as prog:
+            task = prog.add_task(verb, total=None) if prog else None
+
+            def tell(name: str, prog=prog, task=task) -> None:
+                if prog is not None:
+                    prog.update(task, description=f"{verb} case: {name}")
+
+            res = run(terminal, names, tell)
+        results.append(res)
+        if after is not None:
+            after(terminal, res)
+        if not args.json:
+            _out().print(view(res, Fmt(args.units, terminal.atmosphere_abs)))
+    if args.json:
+        objs = [to_json(r) for r in results]
+        _emit_json(objs[0] if len(objs) == 1 else {"files": objs})
+    return EXIT_OK if all(r.ok for r in results) else EXIT_LIMIT
+
+
 def cmd_check(args: argparse.Namespace) -> int:
     from pathlib import Path
 
@@ -128,56 +156,18 @@ def cmd_check(args: argparse.Namespace) -> int:
 
     stroke = _quantity(args.stroke, "s", "--stroke") if args.stroke else None
     rate = _quantity(args.rate, "m^3/h", "--rate") if args.rate else None
-    results = []
-    for path in args.files:
-        terminal = _load(path)
-        names = _check_case_names(terminal, args.case)
-        with _progress(args) as prog:
-            task = prog.add_task("running", total=None) if prog else None
 
-            def tell(name: str, prog=prog, task=task) -> None:
-                if prog is not None:
-                    prog.update(task, description=f"running case: {name}")
+    def run(terminal, names, tell):
+        return check(terminal, names, stroke=stroke, rate=rate, product=args.product, progress=tell)
 
-            res = check(
-                terminal, names, stroke=stroke, rate=rate, product=args.product, progress=tell
-            )
-        results.append(res)
+    def plots(terminal, res) -> None:
         if args.plot:
             from esdsurge.present.plots import write_case_plots
 
-            folder = Path(args.plot)
             for cc in res.cases:
-                write_case_plots(cc, folder, terminal.atmosphere_abs, args.units)
-        if not args.json:
-            _out().print(check_view(res, Fmt(args.units, terminal.atmosphere_abs)))
-    if args.json:
-        objs = [check_json(r) for r in results]
-        _emit_json(objs[0] if len(objs) == 1 else {"files": objs})
-    return EXIT_OK if all(r.ok for r in results) else EXIT_LIMIT
+                write_case_plots(cc, Path(args.plot), terminal.atmosphere_abs, args.units)
 
-
-def _study(args: argparse.Namespace, run, view, to_json) -> int:
-    """Run a study over each file with a progress display; print its view or JSON."""
-    results = []
-    for path in args.files:
-        terminal = _load(path)
-        names = _check_case_names(terminal, args.case)
-        with _progress(args) as prog:
-            task = prog.add_task("searching", total=None) if prog else None
-
-            def tell(name: str, prog=prog, task=task) -> None:
-                if prog is not None:
-                    prog.update(task, description=f"searching case: {name}")
-
-            res = run(terminal, names, tell)
-        results.append(res)
-        if not args.json:
-            _out().print(view(res, Fmt(args.units, terminal.atmosphere_abs)))
-    if args.json:
-        objs = [to_json(r) for r in results]
-        _emit_json(objs[0] if len(objs) == 1 else {"files": objs})
-    return EXIT_OK if all(r.ok for r in results) else EXIT_LIMIT
+    return _study(args, run, check_view, check_json, after=plots, verb="running")
 
 
 def cmd_stroke(args: argparse.Namespace) -> int:
