@@ -15,7 +15,7 @@ import numpy as np
 
 from esdsurge.errors import UsageError
 from esdsurge.limits import ResolvedLimits
-from esdsurge.model import Case, Close, Fluid, Release, Terminal
+from esdsurge.model import Case, Close, Fluid, Terminal
 from esdsurge.studies.derive import CaseDerived, derive_case, first_closing_event
 
 PASS, FAIL, FAIL_STEADY, NO_STEADY = "pass", "fail", "fails before surge", "no steady state"
@@ -317,4 +317,4 @@ def check(
     return CheckResult(terminal, tuple(out), stroke, rate)
 
 
-__all__ = ["CaseCheck", "CheckResult", "ElementVerdict", "Release", "check", "judge"]
+__all__ = ["CaseCheck", "CheckResult", "ElementVerdict", "check", "judge"]
