@@ -11,10 +11,10 @@ from rich.rule import Rule
 from rich.table import Table
 from rich.text import Text
 
-from esdsurge import __version__
 from esdsurge.model import Close, Release, Trip
 from esdsurge.present.cautions import CAUTION
 from esdsurge.present.fmt import Fmt
+from esdsurge.present.jsonout import envelope, rounded
 from esdsurge.studies.check import FAIL_STEADY, NO_STEADY, PASS, CaseCheck, CheckResult
 
 BARS = "▁▂▃▄▅▆▇█"
@@ -225,8 +225,7 @@ def check_view(res: CheckResult, f: Fmt) -> RenderableType:
     return Group(*parts)
 
 
-def _r(x: float | None, n: int = 4) -> float | None:
-    return None if x is None else round(float(x), n)
+_r = rounded
 
 
 def case_json(cc: CaseCheck, atm: float) -> dict[str, Any]:
@@ -302,11 +301,4 @@ def case_json(cc: CaseCheck, atm: float) -> dict[str, Any]:
 
 def check_json(res: CheckResult) -> dict[str, Any]:
     atm = res.terminal.atmosphere_abs
-    return {
-        "esdsurge": __version__,
-        "file": res.terminal.path,
-        "terminal": res.terminal.name,
-        "ok": res.ok,
-        "cases": [case_json(c, atm) for c in res.cases],
-        "caution": CAUTION,
-    }
+    return envelope(res.terminal, res.ok, [case_json(c, atm) for c in res.cases])

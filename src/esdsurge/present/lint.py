@@ -12,6 +12,7 @@ from rich.text import Text
 from esdsurge import __version__
 from esdsurge.present.cautions import CAUTION
 from esdsurge.present.fmt import Fmt
+from esdsurge.present.jsonout import rounded
 from esdsurge.steady import ElementState
 from esdsurge.studies.derive import CaseDerived, Derived, RouteDerived
 
@@ -172,8 +173,7 @@ def lint_view(d: Derived, f: Fmt) -> RenderableType:
     return Group(*parts)
 
 
-def _r(x: float | None, n: int = 4) -> float | None:
-    return None if x is None else round(float(x), n)
+_r = rounded
 
 
 def lint_json(d: Derived) -> dict[str, Any]:

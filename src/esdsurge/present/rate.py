@@ -11,9 +11,9 @@ from rich.rule import Rule
 from rich.table import Table
 from rich.text import Text
 
-from esdsurge import __version__
 from esdsurge.present.cautions import CAUTION
 from esdsurge.present.fmt import Fmt
+from esdsurge.present.jsonout import envelope
 from esdsurge.studies.rate import RateCheck, RateLimit, RateResult
 
 NAMES = {
@@ -160,12 +160,4 @@ def case_json(rc: RateCheck) -> dict[str, Any]:
 
 
 def rate_json(res: RateResult) -> dict[str, Any]:
-    return {
-        "esdsurge": __version__,
-        "file": res.terminal.path,
-        "terminal": res.terminal.name,
-        "ok": res.ok,
-        "spread": res.spread,
-        "cases": [case_json(rc) for rc in res.cases],
-        "caution": CAUTION,
-    }
+    return envelope(res.terminal, res.ok, [case_json(rc) for rc in res.cases], spread=res.spread)

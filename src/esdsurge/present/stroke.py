@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 from typing import Any
 
 from rich.console import Group, RenderableType
@@ -10,9 +9,9 @@ from rich.panel import Panel
 from rich.rule import Rule
 from rich.text import Text
 
-from esdsurge import __version__
 from esdsurge.present.cautions import CAUTION
 from esdsurge.present.fmt import Fmt
+from esdsurge.present.jsonout import envelope, rounded
 from esdsurge.studies.batch import Point
 from esdsurge.studies.stroke import StrokeResult, StrokeWindow, Window
 
@@ -183,7 +182,7 @@ def stroke_view(res: StrokeResult, f: Fmt) -> RenderableType:
 
 
 def _r(x: float | None, n: int = 3) -> float | None:
-    return None if x is None or (isinstance(x, float) and math.isnan(x)) else round(float(x), n)
+    return rounded(x, n)
 
 
 def window_json(w: Window) -> dict[str, Any]:
@@ -262,12 +261,6 @@ def case_json(sw: StrokeWindow, atm: float) -> dict[str, Any]:
 
 def stroke_json(res: StrokeResult) -> dict[str, Any]:
     atm = res.terminal.atmosphere_abs
-    return {
-        "esdsurge": __version__,
-        "file": res.terminal.path,
-        "terminal": res.terminal.name,
-        "ok": res.ok,
-        "spread": res.spread,
-        "cases": [case_json(sw, atm) for sw in res.windows],
-        "caution": CAUTION,
-    }
+    return envelope(
+        res.terminal, res.ok, [case_json(sw, atm) for sw in res.windows], spread=res.spread
+    )
