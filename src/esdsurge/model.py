@@ -262,10 +262,69 @@ class Manifold(Element):
     kind: ClassVar[str] = "manifold"
 
 
+@dataclass(frozen=True, kw_only=True)
+class Relief(Element):
+    """Surge relief valve on a branch at a point of the route, discharging to a relief tank.
+
+    The valve starts to open at ``set_pressure_gauge`` and is fully open (``flow_area``) at
+    ``full_open_pressure_gauge``, its opening proportional to the pressure between the two; it
+    cannot move faster than full travel in ``opening_time`` (opening) or ``closing_time``
+    (closing). The relief line's own losses and the level in the relief tank are not modelled:
+    the valve discharges against ``back_pressure_gauge`` at its own elevation.
+
+    set_pressure_gauge, full_open_pressure_gauge, back_pressure_gauge : [Pa]
+    flow_area : effective flow area fully open, A_eff with Q = A_eff*sqrt(2*dp/rho) [m^2]
+    opening_time, closing_time : full travel times [s]
+    reseats : whether it closes again when the pressure falls (else it stays at the largest
+        opening it reached)
+    receiver_volume : room in the relief tank [m^3], or ``None`` when not given
+    """
+
+    kind: ClassVar[str] = "relief"
+    set_pressure_gauge: float
+    full_open_pressure_gauge: float
+    flow_area: float
+    opening_time: float
+    closing_time: float
+    reseats: bool = True
+    back_pressure_gauge: float = 0.0
+    receiver_volume: float | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
+class Accumulator(Element):
+    """Gas-charged surge vessel (bladder or piston) on a branch at a point of the route.
+
+    volume : gas volume when the vessel holds no liquid [m^3]
+    precharge_abs : gas pre-charge pressure [Pa] at ``precharge_temperature`` [K]; the gas
+        comes to the product temperature before the transfer
+    exponent : polytropic exponent n of the gas during the transient, p V^n = const [-]
+    connection_diameter : bore of the branch connecting it to the route [m]
+    connection_loss : loss coefficient of that branch on its velocity [-]
+    """
+
+    kind: ClassVar[str] = "accumulator"
+    volume: float
+    precharge_abs: float
+    precharge_temperature: float
+    exponent: float = 1.2
+    connection_diameter: float
+    connection_loss: float = 1.0
+
+    @property
+    def connection_area(self) -> float:
+        """[m^2]"""
+        return math.pi * self.connection_diameter**2 / 4.0
+
+
 #: Element kinds by the name used in terminal files. A new kind is added here.
 ELEMENT_KINDS: dict[str, type[Element]] = {
-    cls.kind: cls for cls in (Tank, Pump, Pipe, Arm, Hose, Valve, Coupling, Manifold)
+    cls.kind: cls
+    for cls in (Tank, Pump, Pipe, Arm, Hose, Valve, Coupling, Manifold, Relief, Accumulator)
 }
+
+#: Kinds that sit on a branch off the route and take flow out of it at a point.
+BRANCH_KINDS = (Relief, Accumulator)
 
 #: Kinds that behave as a valve in the line (have a travel and a characteristic).
 VALVE_LIKE = (Valve, Coupling)
@@ -330,7 +389,18 @@ class Release(Event):
     action: ClassVar[str] = "release"
 
 
-EVENT_ACTIONS: dict[str, type[Event]] = {cls.action: cls for cls in (Close, Trip, Release)}
+@dataclass(frozen=True, kw_only=True)
+class Ramp(Event):
+    """Pumps on variable-speed drives ramp their speed down to zero, linearly.
+
+    ramp_time : time from the speed before the event to standstill [s]
+    """
+
+    action: ClassVar[str] = "ramp"
+    ramp_time: float
+
+
+EVENT_ACTIONS: dict[str, type[Event]] = {cls.action: cls for cls in (Close, Trip, Release, Ramp)}
 
 #: Kinds of carrier a case may name (``Carrier.kind``).
 CARRIER_KINDS = ("ship", "barge", "rail car", "road tanker")

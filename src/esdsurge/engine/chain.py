@@ -19,7 +19,23 @@ stays shut while the pump cannot open it. After a trip the speed follows
 ``s0 / (1 + (t - t_trip)/tau)`` (REFERENCES §8), or, in the torque model, J dw/dt = -T with the
 hydraulic torque of the current flow and head and an efficiency ``eta_bep x (2 - x)`` through
 the best-efficiency point (taken at the steady operating point, at rated speed), which gives
-the shut-off torque half its best-efficiency value when the check valve holds.
+the shut-off torque half its best-efficiency value when the check valve holds. A
+variable-speed drive that ramps down instead sets the speed ``s0 (1 - (t - t_ramp)/T)``.
+
+Branches: a surge relief valve or an accumulator takes flow ``Q_s(H_s)`` out of the route at a
+chain point of head ``H_s``. The chain then splits there: the devices on its shore side carry
+``Q_1``, those on its carrier side ``Q_2``, and ``Q_1 - Q_2 - Q_s(H_s) = 0`` is solved for
+``H_s`` (each of ``Q_1``, ``-Q_2``, ``-Q_s`` falls as ``H_s`` rises, so the root is unique).
+
+* Relief valve: ``Q_s = x A sqrt(2 g (H_s - H_back))``, no reverse flow; the opening ``x``
+  follows ``(H_s - H_set) / (H_full - H_set)`` clipped to [0, 1] (a spring- or pilot-loaded
+  valve's proportional lift; Wylie & Streeter 1993, ch. 5), but moves at most full travel per
+  opening (closing) time; it is solved with the head of the same step, so that the valve does
+  not chatter from one step to the next. One that does not reseat keeps its largest opening.
+* Accumulator: the gas follows ``p V^n = const`` and the connection loses ``R Q_s |Q_s|``:
+  ``H_s - R Q_s|Q_s| = z + C / (V_old - dt Q_s)^n`` (implicit in the new gas volume;
+  Wylie & Streeter 1993, §5.7 "air chamber"). The gas volume stays within the vessel: once
+  the liquid has all left, no more flows out.
 """
 
 from __future__ import annotations
@@ -28,8 +44,15 @@ import numpy as np
 from numba import njit
 
 from .codes import (
+    A_C,
+    A_N,
+    A_R,
+    A_VTOT,
+    A_Z,
+    DEV_ACCUM,
     DEV_LOSS,
     DEV_PUMP,
+    DEV_RELIEF,
     DEV_VALVE,
     P_CHECK,
     P_H0,
@@ -41,17 +64,29 @@ from .codes import (
     P_S0,
     P_TAU,
     P_TTRIP,
+    R_AREA,
+    R_HBACK,
+    R_HFULL,
+    R_HSET,
+    R_RESEAT,
+    R_TCLOSE,
+    R_TOPEN,
     RUNDOWN_ANALYTIC,
+    RUNDOWN_RAMP,
     W_A,
     W_B,
     W_C,
     W_H,
+    W_HS,
     W_K,
     W_P,
     W_Q,
+    W_QS,
     W_S,
+    W_SAT,
     W_SHUT,
     W_U,
+    W_X,
 )
 
 
@@ -199,13 +234,205 @@ def update_devices(b, t, dt, g, kind, dev_par, tab_t, tab_a, tab_n, row, work):
         elif k == DEV_PUMP:
             ttrip = dev_par[b, d, P_TTRIP]
             if t >= ttrip:
-                if dev_par[b, d, P_MODE] == RUNDOWN_ANALYTIC:
+                mode = dev_par[b, d, P_MODE]
+                if mode == RUNDOWN_ANALYTIC:
                     work[W_S, d] = dev_par[b, d, P_S0] / (1.0 + (t - ttrip) / dev_par[b, d, P_TAU])
+                elif mode == RUNDOWN_RAMP:
+                    left = 1.0 - (t - ttrip) / dev_par[b, d, P_TAU]
+                    work[W_S, d] = dev_par[b, d, P_S0] * left if left > 0.0 else 0.0
                 else:
                     work[W_S, d] = _torque_step(b, d, dt, dev_par, work)
             s = work[W_S, d]
             work[W_A, d] = dev_par[b, d, P_H0] * s * s
             work[W_B, d] = dev_par[b, d, P_H1] * s
+
+
+@njit(cache=True, error_model="numpy")
+def _relief_opening(b, d, hs, dt, dev_par, work):
+    """Opening of relief valve ``d`` at the end of a step with head ``hs`` at its point: the
+    proportional lift, within what the valve can travel from its last opening in one step."""
+    hset = dev_par[b, d, R_HSET]
+    target = (hs - hset) / (dev_par[b, d, R_HFULL] - hset)
+    x_old = work[W_X, d]
+    hi = min(x_old + dt / dev_par[b, d, R_TOPEN], 1.0)
+    lo = max(x_old - dt / dev_par[b, d, R_TCLOSE], 0.0) if dev_par[b, d, R_RESEAT] > 0.0 else x_old
+    return min(max(target, lo), hi)
+
+
+@njit(cache=True, error_model="numpy")
+def _accumulator_flow(b, d, hs, dt, dev_par, work):
+    """Flow into accumulator ``d`` over the step [m^3/s] with head ``hs`` at its point."""
+    c = dev_par[b, d, A_C]
+    n = dev_par[b, d, A_N]
+    r = dev_par[b, d, A_R]
+    drive = hs - dev_par[b, d, A_Z]
+    v_old = work[W_X, d]
+    lo = (v_old - dev_par[b, d, A_VTOT]) / dt  # the vessel empties within the step
+    hi = v_old / dt  # the gas would vanish
+    # F(q) = drive - r q|q| - c (v_old - dt q)^-n falls with q
+    f_lo = drive - r * lo * abs(lo) - c * (v_old - dt * lo) ** (-n)
+    if f_lo <= 0.0:
+        return lo
+    q = min(max(work[W_QS, d], lo), lo + 0.5 * (hi - lo))
+    for _ in range(100):
+        v = v_old - dt * q
+        f = drive - r * q * abs(q) - c * v ** (-n)
+        slope = -2.0 * r * abs(q) - c * n * dt * v ** (-n - 1.0)
+        if f > 0.0:
+            lo = q
+        else:
+            hi = q
+        qn = q - f / slope
+        if not (lo < qn < hi):
+            qn = 0.5 * (lo + hi)
+        if abs(qn - q) <= 1e-13 * max(abs(qn), 1e-9) or hi - lo <= 1e-15:
+            q = qn
+            break
+        q = qn
+    return q
+
+
+@njit(cache=True, error_model="numpy")
+def branch_flow(b, s0, s1, hs, dt, g, kind, dev_par, work):
+    """Flow into the branch devices ``s0 .. s1 - 1`` over a step ending at head ``hs``
+    [m^3/s]; it rises with ``hs``."""
+    q = 0.0
+    for d in range(s0, s1):
+        k = kind[d]
+        if k == DEV_RELIEF:
+            dh = hs - dev_par[b, d, R_HBACK]
+            if dh > 0.0:
+                x = _relief_opening(b, d, hs, dt, dev_par, work)
+                q += x * dev_par[b, d, R_AREA] * np.sqrt(2.0 * g * dh)
+        elif k == DEV_ACCUM:
+            q += _accumulator_flow(b, d, hs, dt, dev_par, work)
+    return q
+
+
+@njit(cache=True, error_model="numpy")
+def _sub_flow(b, qg, qscale, cl, bl, cr, br, d0, d1, kind, dev_par, work):
+    """Flow through devices ``d0 .. d1 - 1`` between heads ``cl - bl Q`` and ``cr + br Q``,
+    with shut valves and check valves holding [m^3/s]."""
+    for d in range(d0, d1):
+        if kind[d] == DEV_VALVE and work[W_SHUT, d] > 0.0:
+            return 0.0
+    q = solve_chain(qg, qscale, cl, bl, cr, br, d0, d1, kind, work)
+    for d in range(d0, d1):
+        if kind[d] == DEV_PUMP and dev_par[b, d, P_CHECK] > 0.0:
+            if work[W_P, d] * q < 0.0:
+                return 0.0
+    return q
+
+
+@njit(cache=True, error_model="numpy")
+def solve_split(b, ql_g, qr_g, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt, g, kind, dev_par,
+                work):  # fmt: skip
+    """A chain with branch devices ``s0 .. s1 - 1``: the flows on its shore and carrier sides
+    [m^3/s] and the head at the branch point [m].
+
+    ``f(H) = Q_1(H) - Q_2(H) - Q_s(H)`` falls with ``H``; its root is bracketed from the last
+    step's head and found by the Illinois variant of regula falsi (Dahlquist & Bjorck,
+    *Numerical Methods*, 1974, §6.2). A side with no device and no impedance (a tank, or a
+    node holding a cavity) fixes the head itself.
+    """
+    h_fix_left = c0 == s0 and bl == 0.0
+    h_fix_right = s1 == c1 and br == 0.0
+    if h_fix_left or h_fix_right:
+        hs = cl if h_fix_left else cr
+        qs = branch_flow(b, s0, s1, hs, dt, g, kind, dev_par, work)
+        if h_fix_left and h_fix_right:
+            return qs, 0.0, hs  # both sides stiff: the shore side feeds the branch
+        if h_fix_left:
+            q2 = _sub_flow(b, qr_g, qscale, hs, 0.0, cr, br, s1, c1, kind, dev_par, work)
+            return q2 + qs, q2, hs
+        q1 = _sub_flow(b, ql_g, qscale, cl, bl, hs, 0.0, c0, s0, kind, dev_par, work)
+        return q1, q1 - qs, hs
+
+    h = work[W_HS, s0]
+    f, q1, q2 = _split_residual(b, h, ql_g, qr_g, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt,
+                                g, kind, dev_par, work)  # fmt: skip
+    if f == 0.0:
+        return q1, q2, h
+    # bracket: step out from the last head, doubling the step
+    step = 0.01 * max(abs(h), 1.0)
+    if f > 0.0:
+        lo, f_lo = h, f
+        hi, f_hi = h, f
+        for _ in range(200):
+            h = lo + step
+            f, q1, q2 = _split_residual(b, h, q1, q2, qscale, cl, bl, cr, br, c0, c1, s0, s1,
+                                        dt, g, kind, dev_par, work)  # fmt: skip
+            if f <= 0.0:
+                hi, f_hi = h, f
+                break
+            lo, f_lo = h, f
+            step *= 2.0
+    else:
+        lo, f_lo = h, f
+        hi, f_hi = h, f
+        for _ in range(200):
+            h = hi - step
+            f, q1, q2 = _split_residual(b, h, q1, q2, qscale, cl, bl, cr, br, c0, c1, s0, s1,
+                                        dt, g, kind, dev_par, work)  # fmt: skip
+            if f > 0.0:
+                lo, f_lo = h, f
+                break
+            hi, f_hi = h, f
+            step *= 2.0
+    # Illinois iterations inside [lo, hi]
+    side = 0
+    for _ in range(200):
+        if f == 0.0 or hi - lo <= 1e-12 * max(abs(h), 1.0):
+            break
+        h = (lo * f_hi - hi * f_lo) / (f_hi - f_lo)
+        if not (lo < h < hi):
+            h = 0.5 * (lo + hi)
+        f, q1, q2 = _split_residual(b, h, q1, q2, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt,
+                                    g, kind, dev_par, work)  # fmt: skip
+        if f > 0.0:
+            lo, f_lo = h, f
+            if side == 1:
+                f_hi *= 0.5
+            side = 1
+        else:
+            hi, f_hi = h, f
+            if side == -1:
+                f_lo *= 0.5
+            side = -1
+    return q1, q2, h
+
+
+@njit(cache=True, error_model="numpy", inline="always")
+def _split_residual(b, h, q1g, q2g, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt, g, kind,
+                    dev_par, work):  # fmt: skip
+    """``Q_1 - Q_2 - Q_s`` at branch head ``h``, with ``Q_1`` and ``Q_2``."""
+    q1 = _sub_flow(b, q1g, qscale, cl, bl, h, 0.0, c0, s0, kind, dev_par, work)
+    q2 = _sub_flow(b, q2g, qscale, h, 0.0, cr, br, s1, c1, kind, dev_par, work)
+    return q1 - q2 - branch_flow(b, s0, s1, h, dt, g, kind, dev_par, work), q1, q2
+
+
+@njit(cache=True, error_model="numpy")
+def settle_branches(b, s0, s1, hs, qs, dt, g, kind, dev_par, work):
+    """Take the step: the branch devices at head ``hs`` share the flow ``qs`` that the chain
+    gave them (so that no liquid is made or lost); accumulators move their gas volume."""
+    left = qs
+    last = s1 - 1
+    for d in range(s0, s1):
+        if d < last:
+            qd = branch_flow(b, d, d + 1, hs, dt, g, kind, dev_par, work)
+        else:
+            qd = left
+        left -= qd
+        work[W_HS, d] = hs
+        work[W_QS, d] = qd
+        if kind[d] == DEV_ACCUM:
+            v = work[W_X, d] - dt * qd
+            work[W_X, d] = min(max(v, 1e-300), dev_par[b, d, A_VTOT])
+        elif kind[d] == DEV_RELIEF:
+            x = _relief_opening(b, d, hs, dt, dev_par, work)
+            work[W_X, d] = x
+            if x >= 1.0 and hs > dev_par[b, d, R_HFULL]:
+                work[W_SAT, d] += 1.0
 
 
 @njit(cache=True, error_model="numpy")
@@ -304,12 +531,14 @@ def update_junction(u, dn, cpl, bpl, cmr, bmr, state, dt, cav_on):
 
 @njit(cache=True, error_model="numpy")
 def update_chain(
-    b, u, dn, cpl, bpl, cmr, bmr, tank_l, tank_r, c0, c1, qg, qscale, kind, dev_par, work,
-    state, dt, cav_on,
+    b, u, dn, cpl, bpl, cmr, bmr, tank_l, tank_r, c0, c1, s0, s1, qg, qg2, qscale, kind,
+    dev_par, work, state, dt, g, cav_on,
 ):  # fmt: skip
     """Connection with devices between node ``u`` (``-1``: the tank at head ``tank_l``) and node
-    ``dn`` (``-1``: the tank at ``tank_r``); each node may hold a cavity. Writes the nodes'
-    new state and returns the chain's flow [m^3/s] and the heads at its two ends [m]."""
+    ``dn`` (``-1``: the tank at ``tank_r``); each node may hold a cavity. Branch devices
+    ``s0 .. s1 - 1`` (``s0 = -1``: none) split the chain. Writes the nodes' new state and
+    returns the chain's flows on the shore and carrier sides of its branch [m^3/s] and the heads
+    at its two ends [m]."""
     h0, qu0, qd0, h1, qu1, qd1, hv, vol = state
     shut = False
     for d in range(c0, c1):
@@ -322,7 +551,9 @@ def update_chain(
     hvd = hv[dn] if dn >= 0 else 0.0
     vu0 = vol[u] if u >= 0 else 0.0
     vd0 = vol[dn] if dn >= 0 else 0.0
-    qc = qg
+    ql = qg
+    qr = qg2
+    hs = 0.0
     hu = tank_l
     hd = tank_r
     qin = 0.0
@@ -346,31 +577,30 @@ def update_chain(
             cr, br = cmr - bmr * vd0 / dt, bmr
         else:
             cr, br = cmr, bmr
-        if shut:
-            qc = 0.0
+        if s0 >= 0:
+            ql, qr, hs = solve_split(b, qg, qg2, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt, g,
+                                     kind, dev_par, work)  # fmt: skip
+        elif shut:
+            ql = qr = 0.0
         else:
-            qc = solve_chain(qg, qscale, cl, bl, cr, br, c0, c1, kind, work)
-            # check valves: no flow against a pump fitted with one
-            for d in range(c0, c1):
-                if kind[d] == DEV_PUMP and dev_par[b, d, P_CHECK] > 0.0:
-                    if work[W_P, d] * qc < 0.0:
-                        qc = 0.0
+            ql = _sub_flow(b, qg, qscale, cl, bl, cr, br, c0, c1, kind, dev_par, work)
+            qr = ql
         changed = False
         if u >= 0:
             if st_u == 1:
                 hu = hvu
                 qin = (cpl - hvu) / bpl
-                vu = vu0 + dt * (qc - qin)
+                vu = vu0 + dt * (ql - qin)
                 if vu <= 0.0:
                     st_u = 2
                     changed = True
             elif st_u == 2:
-                hu = cl - bpl * qc
-                qin = qc + vu0 / dt
+                hu = cl - bpl * ql
+                qin = ql + vu0 / dt
                 vu = 0.0
             else:
-                hu = cpl - bpl * qc
-                qin = qc
+                hu = cpl - bpl * ql
+                qin = ql
                 vu = 0.0
                 if cav_on and hu < hvu:
                     st_u = 1
@@ -379,17 +609,17 @@ def update_chain(
             if st_d == 1:
                 hd = hvd
                 qout = (hvd - cmr) / bmr
-                vd = vd0 + dt * (qout - qc)
+                vd = vd0 + dt * (qout - qr)
                 if vd <= 0.0:
                     st_d = 2
                     changed = True
             elif st_d == 2:
-                hd = cr + bmr * qc
-                qout = qc - vd0 / dt
+                hd = cr + bmr * qr
+                qout = qr - vd0 / dt
                 vd = 0.0
             else:
-                hd = cmr + bmr * qc
-                qout = qc
+                hd = cmr + bmr * qr
+                qout = qr
                 vd = 0.0
                 if cav_on and hd < hvd:
                     st_d = 1
@@ -400,14 +630,17 @@ def update_chain(
         vol[u] = max(vu, 0.0)
         h1[u] = hu
         qu1[u] = qin
-        qd1[u] = qc
+        qd1[u] = ql
     if dn >= 0:
         vol[dn] = max(vd, 0.0)
         h1[dn] = hd
-        qu1[dn] = qc
+        qu1[dn] = qr
         qd1[dn] = qout
     for d in range(c0, c1):
         if kind[d] == DEV_PUMP:
-            work[W_Q, d] = qc
-            work[W_H, d] = device_dh(d, qc, kind, work)
-    return qc, hu, hd
+            q = qr if (s0 >= 0 and d >= s1) else ql
+            work[W_Q, d] = q
+            work[W_H, d] = device_dh(d, q, kind, work)
+    if s0 >= 0:
+        settle_branches(b, s0, s1, hs, ql - qr, dt, g, kind, dev_par, work)
+    return ql, qr, hu, hd

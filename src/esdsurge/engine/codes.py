@@ -10,6 +10,8 @@ DEV_POINT = 0  # no head change (manifold)
 DEV_VALVE = 1  # valve or coupling: effective area from a table in time
 DEV_PUMP = 2  # pump station (identical units in parallel), with or without a check valve
 DEV_LOSS = 3  # fixed quadratic loss (the steady state's throttle at a pump discharge)
+DEV_RELIEF = 4  # branch: surge relief valve discharging to a relief tank
+DEV_ACCUM = 5  # branch: gas-charged accumulator
 
 # slots of a device's parameters (dev_par[member, device, slot])
 P_H0, P_H1, P_H2 = 0, 1, 2  # fitted curve of one unit at rated speed [m], [s/m^2], [s^2/m^5]
@@ -24,6 +26,19 @@ P_RHOG_ETA = 10  # rho g / best efficiency [N/m^3]
 P_QBEP = 11  # flow of one unit at the best-efficiency point, at rated speed [m^3/s]
 P_CHECK = 12  # 1 with a check valve
 L_K = 0  # fixed loss: coefficient on Q|Q| [s^2/m^5]
+R_HSET = 0  # relief: head at the set pressure [m]
+R_HFULL = 1  # relief: head at which it is fully open [m]
+R_AREA = 2  # relief: effective flow area fully open [m^2]
+R_TOPEN = 3  # relief: full opening time [s]
+R_TCLOSE = 4  # relief: full closing time [s]
+R_RESEAT = 5  # relief: 1 when it closes again as the pressure falls
+R_HBACK = 6  # relief: head of the relief tank at the valve [m]
+A_C = 0  # accumulator: gas pressure head times gas volume^n, p V^n / (rho g) [m m^(3n)]
+A_N = 1  # accumulator: polytropic exponent [-]
+A_VTOT = 2  # accumulator: gas volume of the empty vessel [m^3]
+A_R = 3  # accumulator: connection loss, coefficient on Q|Q| [s^2/m^5]
+A_Z = 4  # accumulator: elevation of its connection [m]
+A_V0 = 5  # accumulator: gas volume before the trigger [m^3]
 N_PAR = 13
 
 # rows of the kernel's device working array (work[row, device])
@@ -37,7 +52,11 @@ W_S = 6  # pump: speed ratio
 W_Q = 7  # pump: flow at the last step [m^3/s]
 W_H = 8  # pump: head gained at the last step, in route direction [m]
 W_SHUT = 9  # valve: 1 when at zero area
-N_WORK = 10
+W_X = 10  # relief: opening fraction [-]; accumulator: gas volume [m^3]
+W_HS = 11  # branch: head at its point at the last step [m]
+W_QS = 12  # branch: flow into the branch at the last step [m^3/s]
+W_SAT = 13  # relief: steps spent fully open above its full-open head
+N_WORK = 14
 
 # probe kinds
 PROBE_NODE = 0  # head of a node; flow leaving it (side 0) or entering it (side 1)
@@ -46,6 +65,7 @@ PROBE_TANK = 2  # constant head; flow of its connection
 
 RUNDOWN_ANALYTIC = 0
 RUNDOWN_TORQUE = 1
+RUNDOWN_RAMP = 2  # a variable-speed drive ramps the speed down linearly over P_TAU
 
 #: a line's envelope pass is skipped while no node moves beyond it by more than this [m]
 #: (round-off in a standing state); the envelope is then within this of the true extreme
@@ -63,8 +83,12 @@ CONNECTIONS = (
     "conn_dev1",
     "conn_pt0",
     "conn_active",
+    "conn_br0",  # first branch device of the connection (-1: none)
+    "conn_br1",  # one past its last branch device
 )
-DEVICES = ("dev_kind", "dev_par", "tab_t", "tab_a", "tab_n", "pump_dev")
+DEVICES = ("dev_kind", "dev_par", "tab_t", "tab_a", "tab_n", "pump_dev", "br_dev")
+#: probe_side: a node's flow leaving it (0) or entering it (1); at a point or a tank, the
+#: connection's flow on the shore side (0) or the carrier side (1) of its branch devices
 PROBES = ("probe_kind", "probe_ref", "probe_side", "probe_conn", "probe_tank")
 OUTPUTS = (
     "ser_h",
@@ -83,4 +107,10 @@ OUTPUTS = (
     "vol_through",
     "h_end",
     "vol_end",
+    "ser_bq",
+    "ser_bs",
+    "br_out",
 )
+#: columns of br_out[member, branch, :]
+B_VOL, B_QMAX, B_KQMAX, B_SMIN, B_SMAX, B_SAT = range(6)
+N_BR_OUT = 6

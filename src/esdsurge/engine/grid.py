@@ -36,6 +36,7 @@ from esdsurge.errors import InputError, Problem
 from esdsurge.lineup import LineData
 from esdsurge.model import (
     VALVE_LIKE,
+    Accumulator,
     Case,
     Close,
     Coupling,
@@ -47,19 +48,30 @@ from esdsurge.model import (
     Manifold,
     Pipe,
     Pump,
+    Ramp,
     Release,
+    Relief,
     Route,
     Tank,
     Trip,
     Valve,
 )
+from esdsurge.physics import mitigations
 from esdsurge.physics import pumps as pump_physics
 from esdsurge.physics import valves as valve_physics
 
 from .codes import (
+    A_C,
+    A_N,
+    A_R,
+    A_V0,
+    A_VTOT,
+    A_Z,
+    DEV_ACCUM,
     DEV_LOSS,
     DEV_POINT,
     DEV_PUMP,
+    DEV_RELIEF,
     DEV_VALVE,
     L_K,
     N_PAR,
@@ -76,7 +88,15 @@ from .codes import (
     P_TAU,
     P_TTRIP,
     P_UNITS,
+    R_AREA,
+    R_HBACK,
+    R_HFULL,
+    R_HSET,
+    R_RESEAT,
+    R_TCLOSE,
+    R_TOPEN,
     RUNDOWN_ANALYTIC,
+    RUNDOWN_RAMP,
     RUNDOWN_TORQUE,
 )
 from .run import Variant
@@ -89,6 +109,9 @@ PROFILE_REACHES = 8
 STROKE_STEPS = 100
 #: samples per event used to tabulate a valve's effective area in time
 TABLE_SAMPLES = 801
+
+#: device kinds that take flow out of the route on a branch
+BRANCH_DEVICES = (DEV_RELIEF, DEV_ACCUM)
 
 #: efficiency assumed at the operating point of a pump that gives none [-]
 #: (common practice, no source: a typical best efficiency of a process pump of this size)
@@ -122,8 +145,14 @@ class Connection:
 
     @property
     def active(self) -> bool:
-        """Whether any device changes the head (else a plain junction)."""
+        """Whether any device changes the head or takes flow (else a plain junction)."""
         return any(d.kind != DEV_POINT for d in self.devices)
+
+    @property
+    def branches(self) -> tuple[int, int]:
+        """Chain positions of its first and one past its last branch device, or (-1, -1)."""
+        at = [k for k, d in enumerate(self.devices) if d.kind in BRANCH_DEVICES]
+        return (at[0], at[-1] + 1) if at else (-1, -1)
 
 
 @dataclass(frozen=True)
@@ -192,8 +221,28 @@ def layout(route: Route) -> Layout:
                 devices.append(Device(i, DEV_VALVE))
             elif isinstance(e, Manifold):
                 devices.append(Device(i, DEV_POINT))
+            elif isinstance(e, Relief):
+                devices.append(Device(i, DEV_RELIEF))
+            elif isinstance(e, Accumulator):
+                devices.append(Device(i, DEV_ACCUM))
             else:  # pragma: no cover - the model has no other point kinds
                 raise InputError([_problem(e, f"element kind {e.kind!r} cannot be simulated")])
+        at = [k for k, d in enumerate(devices) if d.kind in BRANCH_DEVICES]
+        if at and at[-1] - at[0] + 1 != len(at):
+            between = ", ".join(
+                repr(els[d.element].name)
+                for d in devices[at[0] : at[-1]]
+                if d.kind not in BRANCH_DEVICES and d.kind != DEV_LOSS
+            )
+            one, two = els[devices[at[0]].element], els[devices[at[-1]].element]
+            problems.append(
+                _problem(
+                    two,
+                    f"{one.name!r} and {two.name!r} "
+                    f"branch off at two points with {between} between them and no pipe, arm or "
+                    "hose: put them side by side, or a line between them",
+                )
+            )
         first = n_points if devices else -1
         for k, d in enumerate(devices):
             if d.kind == DEV_PUMP:
@@ -213,6 +262,8 @@ def layout(route: Route) -> Layout:
                 first_point=first,
             )
         )
+    if problems:
+        raise InputError(problems)
     for ln, i in enumerate(lines):
         place[i] = ("line", ln)
     place[0] = ("tank", 0)
@@ -360,6 +411,7 @@ _EVENT_TARGETS: dict[type, tuple[tuple[type, ...], str]] = {
     Close: ((Valve, Coupling), "a valve"),
     Release: ((Coupling,), "a coupling"),
     Trip: ((Pump,), "a pump"),
+    Ramp: ((Pump,), "a pump"),
 }
 
 
@@ -478,6 +530,10 @@ def build_member(
     limit = float(travel.sum()) / ROUTE_REACHES
     strokes = dict(variant.strokes)
     closures = [_closure_time(route, ev, strokes) for ev in events]
+    closures += [ev.ramp_time for ev in events if isinstance(ev, Ramp)]
+    for e in els:
+        if isinstance(e, Relief):
+            closures += [e.opening_time, e.closing_time]
     closures = [s for s in closures if s is not None and s > 0.0]
     if closures:
         limit = min(limit, min(closures) / STROKE_STEPS)
@@ -526,10 +582,10 @@ def build_member(
     speeds = dict(getattr(steady, "pump_speeds", {}))
     throttle_at = getattr(steady, "throttle_at", None)
     throttled = float(getattr(steady, "throttled_head", 0.0) or 0.0)
-    trips = {}
+    trips: dict[str, tuple[float, float | None]] = {}  # pump -> (time, ramp time or None)
     for ev in events:
-        if isinstance(ev, Trip):
-            trips[ev.element] = min(ev.at, trips.get(ev.element, math.inf))
+        if isinstance(ev, Trip | Ramp) and ev.element not in trips:
+            trips[ev.element] = (ev.at, ev.ramp_time if isinstance(ev, Ramp) else None)
     t_end = 0.0
     for ev, s in zip(events, [_closure_time(route, ev, strokes) for ev in events], strict=True):
         t_end = max(t_end, ev.at + (s or 0.0))  # type: ignore[attr-defined]
@@ -548,7 +604,8 @@ def build_member(
             par, tau = _pump_parameters(e, fluid, q0, running, speeds, trips, rundown)
             dev_par[k] = par
             if e.name in trips:
-                t_end = max(t_end, trips[e.name] + 3.0 * tau)
+                ramps = trips[e.name][1] is not None
+                t_end = max(t_end, trips[e.name][0] + (tau if ramps else 3.0 * tau))
 
     # chain point elevations: the neighbouring line end
     point_z = np.zeros(lay.n_points)
@@ -566,7 +623,10 @@ def build_member(
     h_init = np.empty(n_nodes)
     k = 0
     for c in lay.connections:
-        for d in c.devices:
+        for pos, d in enumerate(c.devices):
+            if d.kind in BRANCH_DEVICES:
+                zp = point_z[c.first_point + pos]
+                dev_par[k] = _branch_parameters(els[d.element], h, zp, fluid, atmosphere_abs)
             h += _device_head(els[d.element], d.kind, dev_par[k], tables[k], q0)
             k += 1
         if c.right >= 0:
@@ -644,10 +704,11 @@ def _pump_parameters(
     q0: float,
     running: dict[str, int],
     speeds: dict[str, float],
-    trips: dict[str, float],
+    trips: dict[str, tuple[float, float | None]],
     rundown: str,
 ) -> tuple[np.ndarray, float]:
-    """Kernel parameters of a pump station and its run-down time constant [s]."""
+    """Kernel parameters of a pump station and its run-down time constant (a ramp-down: the
+    ramp time) [s]."""
     h0, h1, h2 = pump_physics.fit_curve(pump.curve)
     units = running.get(pump.name, pump.count)
     if units < 1:
@@ -659,7 +720,13 @@ def _pump_parameters(
     par[P_TTRIP] = 1e300  # no trip
     par[P_CHECK] = 1.0 if pump.check_valve else 0.0
     tau = 0.0
-    if pump.name in trips:
+    if pump.name in trips and trips[pump.name][1] is not None:
+        # a variable-speed drive ramps down: the speed is the drive's, not the inertia's
+        at, ramp = trips[pump.name]
+        par[P_TTRIP] = at
+        par[P_MODE] = RUNDOWN_RAMP
+        par[P_TAU] = tau = float(ramp)  # type: ignore[arg-type]
+    elif pump.name in trips:
         if pump.rated_speed is None:
             raise InputError(
                 [
@@ -677,10 +744,52 @@ def _pump_parameters(
         w0 = s0 * pump.rated_speed
         inertia = pump.inertia or pump_physics.estimate_inertia(power, pump.rated_speed)
         tau = pump_physics.rundown_time_constant(inertia, w0, power)
-        par[P_TTRIP] = trips[pump.name]
+        par[P_TTRIP] = trips[pump.name][0]
         par[P_MODE] = RUNDOWN_ANALYTIC if rundown == "analytic" else RUNDOWN_TORQUE
         par[P_TAU] = tau
         par[P_JW2] = inertia * pump.rated_speed**2
         par[P_RHOG_ETA] = fluid.density * G / eta
         par[P_QBEP] = q_unit / s0
     return par, tau
+
+
+def _branch_parameters(
+    e: Element, head: float, z: float, fluid: Fluid, atmosphere_abs: float
+) -> np.ndarray:
+    """Kernel parameters of a relief valve or an accumulator at a point of head ``head`` [m]
+    and elevation ``z`` [m] before the trigger."""
+    rho_g = fluid.density * G
+    par = np.zeros(N_PAR)
+    p0 = rho_g * (head - z)  # absolute pressure at the point before the trigger [Pa]
+    if isinstance(e, Relief):
+        set_abs = e.set_pressure_gauge + atmosphere_abs
+        if p0 >= set_abs:
+            raise InputError(
+                [
+                    _problem(
+                        e,
+                        f"relief valve {e.name!r} would be open before the trigger: the "
+                        f"transfer holds {(p0 - atmosphere_abs) / 1e5:.2f} barg there, at or "
+                        f"above its set pressure {e.set_pressure_gauge / 1e5:.2f} barg; raise "
+                        "'set_pressure' above the operating pressure",
+                    )
+                ]
+            )
+        par[R_HSET] = z + set_abs / rho_g
+        par[R_HFULL] = z + (e.full_open_pressure_gauge + atmosphere_abs) / rho_g
+        par[R_AREA] = e.flow_area
+        par[R_TOPEN] = e.opening_time
+        par[R_TCLOSE] = e.closing_time
+        par[R_RESEAT] = 1.0 if e.reseats else 0.0
+        par[R_HBACK] = z + (e.back_pressure_gauge + atmosphere_abs) / rho_g
+    elif isinstance(e, Accumulator):
+        v0, p_gas = mitigations.accumulator_charge(
+            e.volume, e.precharge_abs, e.precharge_temperature, p0, fluid.temperature
+        )
+        par[A_C] = p_gas * v0**e.exponent / rho_g
+        par[A_N] = e.exponent
+        par[A_VTOT] = e.volume
+        par[A_R] = e.connection_loss / (2.0 * G * e.connection_area**2)
+        par[A_Z] = z
+        par[A_V0] = v0
+    return par

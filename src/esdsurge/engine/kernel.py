@@ -31,10 +31,19 @@ from numba import njit
 
 from .chain import chain_heads, device_dh, update_chain, update_devices, update_junction
 from .codes import (
+    A_V0,
+    B_KQMAX,
+    B_QMAX,
+    B_SAT,
+    B_SMAX,
+    B_SMIN,
+    B_VOL,
+    DEV_ACCUM,
     DEV_LOSS,
     DEV_PUMP,
     DEV_VALVE,
     L_K,
+    N_BR_OUT,
     N_WORK,
     P_H0,
     P_H1,
@@ -48,11 +57,15 @@ from .codes import (
     W_B,
     W_C,
     W_H,
+    W_HS,
     W_K,
     W_P,
     W_Q,
+    W_QS,
     W_S,
+    W_SAT,
     W_U,
+    W_X,
 )
 from .lines import NONE, envelope_node, update_line
 
@@ -77,6 +90,8 @@ def _work(b, g, kind, dev_par, tab_a, q_conn, conn_dev0, conn_dev1):
         elif k == DEV_VALVE:
             a = tab_a[b, d, 0]  # the table's first row is the open area
             work[W_K, d] = 1.0 / (2.0 * g * a * a) if a > 0.0 else 0.0
+        elif k == DEV_ACCUM:
+            work[W_X, d] = dev_par[b, d, A_V0]
     for c in range(conn_dev0.shape[0]):
         for d in range(conn_dev0[c], conn_dev1[c]):
             if kind[d] == DEV_PUMP:
@@ -86,13 +101,14 @@ def _work(b, g, kind, dev_par, tab_a, q_conn, conn_dev0, conn_dev1):
 
 
 @njit(cache=True, error_model="numpy")
-def _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, pth, qscale, dt,
-                 cav_on):  # fmt: skip
+def _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, q_conr, pth, qscale,
+                 dt, g, cav_on):  # fmt: skip
     """Update every connection to step ``n`` (``n = 0``: the chain heads of the initial state
-    only); the connection flows go to ``q_conn``, the chain heads to ``pth``."""
+    only); the connection flows go to ``q_conn`` (shore side of its branch devices) and
+    ``q_conr`` (carrier side), the chain heads to ``pth``."""
     h0, qu0, qd0, h1, qu1, qd1, hv, vol = state
     line_start, line_n, line_b, line_r = grid[0], grid[1], grid[2], grid[3]
-    left, right, tank_l, tank_r, dev0, dev1, pt0, active = conns
+    left, right, tank_l, tank_r, dev0, dev1, pt0, active, br0, br1 = conns
     kind, dev_par = devices[0], devices[1]
     for c in range(left.shape[0]):
         lft = left[c]
@@ -108,6 +124,7 @@ def _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, pth,
             hl = h0[u] if u >= 0 else tank_l[c]
             hr = h0[dn] if dn >= 0 else tank_r[c]
             qc = q_conn[c]
+            qr = qc
         else:
             if u >= 0:
                 bb = line_b[b, lft]
@@ -120,22 +137,26 @@ def _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, pth,
                 cmr = h0[dn + 1] - bb * qb
                 bmr = bb + line_r[b, rgt] * abs(qb)
             if active[c]:
-                qc, hl, hr = update_chain(
+                qc, qr, hl, hr = update_chain(
                     b, u, dn, cpl, bpl, cmr, bmr, tank_l[c], tank_r[c], dev0[c], dev1[c],
-                    q_conn[c], qscale, kind, dev_par, work, state, dt, cav_on,
+                    br0[c], br1[c], q_conn[c], q_conr[c], qscale, kind, dev_par, work, state,
+                    dt, g, cav_on,
                 )  # fmt: skip
             elif u >= 0 and dn >= 0:
                 qc, hl = update_junction(u, dn, cpl, bpl, cmr, bmr, state, dt, cav_on)
                 hr = hl
+                qr = qc
             elif u < 0:
                 hl = hr = tank_l[c]
                 qc = (hl - cmr) / bmr
+                qr = qc
                 h1[dn] = hl
                 qu1[dn] = qc
                 qd1[dn] = qc
             else:
                 hl = hr = tank_r[c]
                 qc = (cpl - hl) / bpl
+                qr = qc
                 h1[u] = hl
                 qu1[u] = qc
                 qd1[u] = qc
@@ -144,25 +165,51 @@ def _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, pth,
             if dn >= 0:
                 envelope_node(dn, n, h1[dn], vol[dn], envelope)
         q_conn[c] = qc
+        q_conr[c] = qr
         if pt0[c] >= 0:
-            if active[c]:
+            s0 = br0[c]
+            if active[c] and (s0 < 0 or n == 0):
                 chain_heads(b, dev0[c], dev1[c], qc, hl, hr, kind, dev_par, work, pth, pt0[c])
+                if s0 >= 0:  # the head at the branch point before the trigger
+                    for d in range(s0, br1[c]):
+                        work[W_HS, d] = pth[pt0[c] + s0 - dev0[c]]
+            elif active[c]:
+                # shore side, branch point, carrier side
+                s1 = br1[c]
+                hs = work[W_HS, s0]
+                p_s0 = pt0[c] + s0 - dev0[c]
+                p_s1 = pt0[c] + s1 - dev0[c]
+                chain_heads(b, dev0[c], s0, qc, hl, hs, kind, dev_par, work, pth, pt0[c])
+                chain_heads(b, s1, dev1[c], qr, hs, hr, kind, dev_par, work, pth, p_s1)
+                for i in range(p_s0, p_s1 + 1):
+                    pth[i] = hs
             else:
                 for i in range(dev1[c] - dev0[c] + 1):
                     pth[pt0[c] + i] = hl
 
 
 @njit(cache=True, error_model="numpy", inline="always")
-def _probe(p, b, h, qu, qd, pth, q_conn, probes):
+def _probe(p, b, h, qu, qd, pth, q_conn, q_conr, probes):
     """Head [m] and flow [m^3/s] at probe ``p``."""
     kind, ref, side, conn, tank = probes
     k = kind[p]
     if k == PROBE_NODE:
         i = ref[b, p]
         return h[i], (qd[i] if side[p] == 0 else qu[i])
+    q = q_conn[conn[p]] if side[p] == 0 else q_conr[conn[p]]
     if k == PROBE_POINT:
-        return pth[ref[b, p]], q_conn[conn[p]]
-    return tank[p], q_conn[conn[p]]
+        return pth[ref[b, p]], q
+    return tank[p], q
+
+
+@njit(cache=True, error_model="numpy", inline="always")
+def _sample(ser, b, j, old, new, k, nsamp, sample_dt, t, t_old, dt, tol):
+    """Samples ``k, k + 1, ...`` falling within the step (``t_old``, ``t``] of series ``j``,
+    interpolated linearly between the step's values ``old`` and ``new``."""
+    while k < nsamp and k * sample_dt <= t + tol:
+        w = max((k * sample_dt - t_old) / dt, 0.0)
+        ser[b, j, k] = old + w * (new - old)
+        k += 1
 
 
 @njit(cache=True, error_model="numpy")
@@ -170,9 +217,10 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
     """The whole time loop of batch member ``b``."""
     dt_all, nsteps_all, n_nodes_all, qscale_all = members
     line_start, line_n, line_b, line_r, hv_all, h_init, q_init = grid
-    kind, dev_par, tab_t, tab_a, tab_n, pump_dev = devices
+    kind, dev_par, tab_t, tab_a, tab_n, pump_dev, br_dev = devices
     ser_h, ser_q, ser_s, hmax_all, kmax_all, hmin_all, kmin_all, vmax_all, kv_all = out[:9]
-    pt_hmax, pt_kmax, pt_hmin, pt_kmin, vol_through, h_end, vol_end = out[9:]
+    pt_hmax, pt_kmax, pt_hmin, pt_kmin, vol_through, h_end, vol_end = out[9:16]
+    ser_bq, ser_bs, br_out = out[16:]
     dt = dt_all[b]
     nn = n_nodes_all[b]
     nlines = line_start.shape[1]
@@ -181,6 +229,7 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
     nprobe = probes[0].shape[0]
     nsamp = ser_h.shape[2]
     npump = pump_dev.shape[0]
+    nbr = br_dev.shape[0]
 
     # state, double-buffered; per line, the stretch holding cavities (NONE: none)
     h0 = h_init[b, :nn].copy()
@@ -205,12 +254,13 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
         lft = conns[0][c]
         i = line_start[b, lft] + line_n[b, lft] if lft >= 0 else line_start[b, conns[1][c]]
         q_conn[c] = q_init[b, i]
+    q_conr = q_conn.copy()
     work = _work(b, g, kind, dev_par, tab_a, q_conn, conns[4], conns[5])
     row = np.zeros(kind.shape[0], dtype=np.int64)
     pth = np.zeros(max(npts, 1))
     state = (h0, qu0, qd0, h1, qu1, qd1, hv, vol)
-    _connections(b, 0, state, envelope, grid, conns, devices, work, q_conn, pth,
-                 qscale_all[b], dt, cav_on)  # fmt: skip
+    _connections(b, 0, state, envelope, grid, conns, devices, work, q_conn, q_conr, pth,
+                 qscale_all[b], dt, g, cav_on)  # fmt: skip
     for p in range(npts):
         pt_hmax[b, p] = pth[p]
         pt_hmin[b, p] = pth[p]
@@ -220,7 +270,7 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
     pr_h = np.zeros(nprobe)
     pr_q = np.zeros(nprobe)
     for p in range(nprobe):
-        pr_h[p], pr_q[p] = _probe(p, b, h0, qu0, qd0, pth, q_conn, probes)
+        pr_h[p], pr_q[p] = _probe(p, b, h0, qu0, qd0, pth, q_conn, q_conr, probes)
         ser_h[b, p, 0] = pr_h[p]
         ser_q[b, p, 0] = pr_q[p]
     q_in = pr_q[0::2].copy()
@@ -228,6 +278,15 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
     for k in range(npump):
         ps[k] = work[W_S, pump_dev[k]]
         ser_s[b, k, 0] = ps[k]
+    # branch devices: flow in and state (relief opening, accumulator gas volume)
+    bq = np.zeros(max(nbr, 1))
+    bs = np.zeros(max(nbr, 1))
+    for j in range(nbr):
+        d = br_dev[j]
+        bs[j] = work[W_X, d]
+        ser_bs[b, j, 0] = bs[j]
+        br_out[b, j, B_SMIN] = bs[j]
+        br_out[b, j, B_SMAX] = bs[j]
     next_sample = 1
     sample_dt = duration / (nsamp - 1)
     tol = 1e-12 * dt
@@ -243,8 +302,8 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
                 state, envelope, line_start[b, ln], line_n[b, ln], line_b[b, ln],
                 line_r[b, ln], dt, n, cav_on, spans[ln],
             )  # fmt: skip
-        _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, pth,
-                     qscale_all[b], dt, cav_on)  # fmt: skip
+        _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, q_conr, pth,
+                     qscale_all[b], dt, g, cav_on)  # fmt: skip
         for p in range(npts):
             h = pth[p]
             if h > pt_hmax[b, p]:
@@ -254,39 +313,56 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
                 pt_hmin[b, p] = h
                 pt_kmin[b, p] = n
 
-        # volume passed each element's shore end over (0, duration] (trapezoidal)
+        # volume passed each element's shore end, and into each branch, over (0, duration]
+        # (trapezoidal)
         if t_old < duration:
             w_end = (min(t, duration) - t_old) / dt
             for e in range(q_in.shape[0]):
                 q_old = q_in[e]
-                q_in[e] = _probe(2 * e, b, h1, qu1, qd1, pth, q_conn, probes)[1]
+                q_in[e] = _probe(2 * e, b, h1, qu1, qd1, pth, q_conn, q_conr, probes)[1]
                 q_end = q_old + w_end * (q_in[e] - q_old)
                 vol_through[b, 2 * e] += 0.5 * (q_old + q_end) * w_end * dt
+            for j in range(nbr):
+                q_new = work[W_QS, br_dev[j]]
+                q_end = bq[j] + w_end * (q_new - bq[j])
+                br_out[b, j, B_VOL] += 0.5 * (bq[j] + q_end) * w_end * dt
+        for j in range(nbr):
+            d = br_dev[j]
+            q_new = work[W_QS, d]
+            if q_new > br_out[b, j, B_QMAX]:
+                br_out[b, j, B_QMAX] = q_new
+                br_out[b, j, B_KQMAX] = n
+            x = work[W_X, d]
+            br_out[b, j, B_SMIN] = min(br_out[b, j, B_SMIN], x)
+            br_out[b, j, B_SMAX] = max(br_out[b, j, B_SMAX], x)
         # samples, interpolated linearly between this step and the last
         if next_sample < nsamp and next_sample * sample_dt <= t + tol:
+            k = next_sample
             for p in range(nprobe):
-                h_new, q_new = _probe(p, b, h1, qu1, qd1, pth, q_conn, probes)
-                k = next_sample
-                while k < nsamp and k * sample_dt <= t + tol:
-                    w = max((k * sample_dt - t_old) / dt, 0.0)
-                    ser_h[b, p, k] = pr_h[p] + w * (h_new - pr_h[p])
-                    ser_q[b, p, k] = pr_q[p] + w * (q_new - pr_q[p])
-                    k += 1
+                h_new, q_new = _probe(p, b, h1, qu1, qd1, pth, q_conn, q_conr, probes)
+                _sample(ser_h, b, p, pr_h[p], h_new, k, nsamp, sample_dt, t, t_old, dt, tol)
+                _sample(ser_q, b, p, pr_q[p], q_new, k, nsamp, sample_dt, t, t_old, dt, tol)
             for j in range(npump):
                 s_new = work[W_S, pump_dev[j]]
-                k = next_sample
-                while k < nsamp and k * sample_dt <= t + tol:
-                    w = max((k * sample_dt - t_old) / dt, 0.0)
-                    ser_s[b, j, k] = ps[j] + w * (s_new - ps[j])
-                    k += 1
+                _sample(ser_s, b, j, ps[j], s_new, k, nsamp, sample_dt, t, t_old, dt, tol)
+            for j in range(nbr):
+                d = br_dev[j]
+                _sample(ser_bq, b, j, bq[j], work[W_QS, d], k, nsamp, sample_dt, t, t_old, dt,
+                        tol)  # fmt: skip
+                _sample(ser_bs, b, j, bs[j], work[W_X, d], k, nsamp, sample_dt, t, t_old, dt,
+                        tol)  # fmt: skip
             while next_sample < nsamp and next_sample * sample_dt <= t + tol:
                 next_sample += 1
         if next_sample < nsamp and next_sample * sample_dt <= t + dt + tol:
             # a sample falls within the next step: keep this step's values
             for p in range(nprobe):
-                pr_h[p], pr_q[p] = _probe(p, b, h1, qu1, qd1, pth, q_conn, probes)
+                pr_h[p], pr_q[p] = _probe(p, b, h1, qu1, qd1, pth, q_conn, q_conr, probes)
             for j in range(npump):
                 ps[j] = work[W_S, pump_dev[j]]
+            for j in range(nbr):
+                bs[j] = work[W_X, br_dev[j]]
+        for j in range(nbr):
+            bq[j] = work[W_QS, br_dev[j]]  # every step: the branch volume integrates it
 
         h0, h1 = h1, h0
         qu0, qu1 = qu1, qu0
@@ -295,6 +371,8 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
     for i in range(nn):
         h_end[b, i] = h0[i]
         vol_end[b, i] = vol[i]
+    for j in range(nbr):
+        br_out[b, j, B_SAT] = work[W_SAT, br_dev[j]] * dt
 
 
 @njit(cache=True, nogil=True, error_model="numpy")
@@ -310,7 +388,9 @@ def run_members(b0, b1, cav_on, g, duration, members, grid, conns, devices, prob
     return 0
 
 
-def empty_outputs(nb: int, nnode: int, npts: int, nprobe: int, npump: int, nsamp: int) -> dict:
+def empty_outputs(
+    nb: int, nnode: int, npts: int, nprobe: int, npump: int, nsamp: int, nbranch: int = 0
+) -> dict:
     """Allocate the kernel's output arrays (see ``codes.OUTPUTS``)."""
     f, i = np.float64, np.int64
     return {
@@ -330,6 +410,9 @@ def empty_outputs(nb: int, nnode: int, npts: int, nprobe: int, npump: int, nsamp
         "vol_through": np.zeros((nb, nprobe), f),
         "h_end": np.zeros((nb, nnode), f),
         "vol_end": np.zeros((nb, nnode), f),
+        "ser_bq": np.zeros((nb, nbranch, nsamp), f),
+        "ser_bs": np.zeros((nb, nbranch, nsamp), f),
+        "br_out": np.zeros((nb, nbranch, N_BR_OUT), f),
     }
 
 

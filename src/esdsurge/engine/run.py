@@ -102,7 +102,21 @@ class Run:
     initial_mismatch : head left over at the carrier tank when the engine's own relations are
         walked along the route with the steady flow [m] (a check of the steady state; about 0)
     volume_balance_error : volume in from the shore tank minus volume out to the carrier tank
-        minus the change of stored volume (liquid compression, wall stretch and cavities) [m^3]
+        and into the branches minus the change of stored volume (liquid compression, wall
+        stretch and cavities) [m^3]
+    branches : names of the relief valves and accumulators, in route order
+    branch_flow : flow from the route into each branch [m^3/s], shape (batch, branches,
+        samples); an accumulator's is negative while it gives liquid back
+    branch_state : a relief valve's opening [-] (0 shut, 1 fully open) or an accumulator's gas
+        volume [m^3], same shape
+    branch_volume : volume into each branch over (0, duration] [m^3]: a relief valve's
+        relieved volume, an accumulator's net intake
+    branch_flow_max, t_branch_flow_max : largest flow into each branch [m^3/s] and when [s]
+    branch_state_min, branch_state_max : smallest and largest opening or gas volume
+    branch_capacity : a relief valve's flow fully open at its full-open pressure [m^3/s] (NaN
+        for an accumulator)
+    branch_time_over_capacity : time a relief valve spent fully open with the pressure above
+        its full-open pressure, i.e. asked to pass more than its capacity [s]
     node_updates : grid nodes times time steps, summed over the members [-]
     loop_seconds : wall time of the compiled time loop for the whole batch [s]
     steady : the steady state of each member (``esdsurge.steady.SteadyState``)
@@ -143,6 +157,16 @@ class Run:
     envelopes: tuple[Envelope, ...]
     initial_mismatch: np.ndarray
     volume_balance_error: np.ndarray
+    branches: tuple[str, ...]
+    branch_flow: np.ndarray
+    branch_state: np.ndarray
+    branch_volume: np.ndarray
+    branch_flow_max: np.ndarray
+    t_branch_flow_max: np.ndarray
+    branch_state_min: np.ndarray
+    branch_state_max: np.ndarray
+    branch_capacity: np.ndarray
+    branch_time_over_capacity: np.ndarray
     node_updates: int
     loop_seconds: float
     steady: tuple[object, ...] = field(repr=False)

@@ -19,7 +19,19 @@ from concurrent.futures import ThreadPoolExecutor
 import numpy as np
 
 from esdsurge.errors import SteadyStateError, UsageError
-from esdsurge.model import STANDARD_ATMOSPHERE, Case, Fluid, G, Hose, Pipe, Route
+from esdsurge.model import (
+    BRANCH_KINDS,
+    STANDARD_ATMOSPHERE,
+    Accumulator,
+    Case,
+    Fluid,
+    G,
+    Hose,
+    Pipe,
+    Relief,
+    Route,
+)
+from esdsurge.physics import mitigations
 
 from . import codes
 from . import grid as g
@@ -227,9 +239,19 @@ def _pack(lay: g.Layout, members: list[g.Member], duration: float) -> dict:
             elif pl[0] == "device":
                 probe_kind[p] = codes.PROBE_POINT
                 probe_conn[p] = pl[1]
+                s0 = conns[pl[1]].branches[0]
+                # the flow on the carrier side of the connection's branch devices
+                probe_side[p] = 1 if 0 <= s0 < pl[2] + side * pl[3] else 0
             else:
                 probe_kind[p] = codes.PROBE_TANK
                 probe_conn[p] = pl[1]
+                probe_side[p] = 0 if i == 0 else 1
+    dev_first = np.cumsum([0] + [len(c.devices) for c in conns])[:-1]
+    br0 = np.full(len(conns), -1, dtype=np.int64)
+    br1 = np.full(len(conns), -1, dtype=np.int64)
+    for c, (first, conn) in enumerate(zip(dev_first, conns, strict=True)):
+        if conn.branches[0] >= 0:
+            br0[c], br1[c] = first + conn.branches[0], first + conn.branches[1]
     nsteps = np.array([int(np.ceil(duration / m.dt - 1e-9)) for m in members], dtype=np.int64)
     return {
         "dt_all": np.array([m.dt for m in members]),
@@ -250,6 +272,8 @@ def _pack(lay: g.Layout, members: list[g.Member], duration: float) -> dict:
         "conn_dev1": np.cumsum([len(c.devices) for c in conns]).astype(np.int64),
         "conn_pt0": np.array([c.first_point for c in conns], dtype=np.int64),
         "conn_active": np.array([c.active for c in conns], dtype=np.bool_),
+        "conn_br0": br0,
+        "conn_br1": br1,
         "dev_kind": np.array([d.kind for d in devices] or [0], dtype=np.int64)[:ndev],
         "dev_par": dev_par,
         "tab_t": tab_t,
@@ -319,16 +343,19 @@ def _run(
     k = 0
     for c in lay.connections:
         for d in c.devices:
-            if d.kind == codes.DEV_PUMP:
+            if d.kind in (codes.DEV_PUMP, codes.DEV_RELIEF, codes.DEV_ACCUM):
                 dev_index[d.element] = k
             k += 1
     pump_dev = np.array([dev_index[i] for i in pumps], dtype=np.int64)
+    branches = tuple(i for i, e in enumerate(els) if isinstance(e, BRANCH_KINDS))
+    br_dev = np.array([dev_index[i] for i in branches], dtype=np.int64)
     nsamp = max(2, int(samples))
     nnode = arrays["hv_all"].shape[1]
     out = kernel.empty_outputs(
-        len(members), nnode, max(lay.n_points, 1), 2 * len(els), len(pumps), nsamp
-    )
-    arrays.update(out, pump_dev=pump_dev)
+        len(members), nnode, max(lay.n_points, 1), 2 * len(els), len(pumps), nsamp,
+        len(branches),
+    )  # fmt: skip
+    arrays.update(out, pump_dev=pump_dev, br_dev=br_dev)
     args = (bool(cavities), G, float(duration)) + tuple(
         tuple(arrays[k] for k in group)
         for group in (
@@ -360,6 +387,7 @@ def _run(
         nsamp,
         (h_shore, h_carrier),
         pumps,
+        branches,
         updates,
         loop_seconds,
     )
@@ -381,6 +409,7 @@ def _unpack(
     nsamp,
     tank_heads,
     pumps,
+    branches,
     updates,
     loop_seconds,
 ) -> Run:
@@ -478,8 +507,18 @@ def _unpack(
         stored -= float(np.sum(out["vol_end"][b, :nn]))  # a cavity displaces liquid
         v_in = out["vol_through"][b, 0]
         v_out = out["vol_through"][b, 2 * (ne - 1)]
-        balance[b] = v_in - v_out - stored
+        v_branches = float(np.sum(out["br_out"][b, :, codes.B_VOL]))
+        balance[b] = v_in - v_out - v_branches - stored
     q = out["ser_q"]
+    br = out["br_out"]
+    dts = np.array([m.dt for m in members])
+    capacity = np.full((nb, len(branches)), np.nan)
+    for j, i in enumerate(branches):
+        e = els[i]
+        if isinstance(e, Relief):
+            drop = e.full_open_pressure_gauge - e.back_pressure_gauge
+            capacity[:, j] = mitigations.relief_flow(e.flow_area, drop, fluid.density)
+        assert isinstance(e, Relief | Accumulator)
     return Run(
         case=case.name,
         route=route.name,
@@ -516,6 +555,16 @@ def _unpack(
         envelopes=tuple(envelopes),
         initial_mismatch=np.array([m.mismatch for m in members]),
         volume_balance_error=balance,
+        branches=tuple(els[i].name for i in branches),
+        branch_flow=out["ser_bq"],
+        branch_state=out["ser_bs"],
+        branch_volume=br[:, :, codes.B_VOL].copy(),
+        branch_flow_max=br[:, :, codes.B_QMAX].copy(),
+        t_branch_flow_max=br[:, :, codes.B_KQMAX] * dts[:, None],
+        branch_state_min=br[:, :, codes.B_SMIN].copy(),
+        branch_state_max=br[:, :, codes.B_SMAX].copy(),
+        branch_capacity=capacity,
+        branch_time_over_capacity=br[:, :, codes.B_SAT].copy(),
         node_updates=updates,
         loop_seconds=loop_seconds,
         steady=tuple(steadies),
