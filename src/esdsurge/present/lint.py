@@ -25,6 +25,8 @@ KIND_MARK = {
     "valve": "⋈",
     "coupling": "⊘",
     "manifold": "╋",
+    "relief": "↥",
+    "accumulator": "◒",
 }
 
 

@@ -38,11 +38,19 @@ EVENT_KEYS: dict[str, tuple[str, ...]] = {
     "close": ("at", "close", "stroke", "travel"),
     "trip": ("at", "trip"),
     "release": ("at", "release"),
+    "ramp": ("at", "ramp", "ramp_time"),
 }
 #: The element kind each action applies to.
-EVENT_TARGET = {"close": "valve", "trip": "pump", "release": "coupling"}
-#: The action that applies to each kind that has one (for "use ... instead").
-ACTION_FOR_KIND = {kind: action for action, kind in EVENT_TARGET.items()}
+EVENT_TARGET = {"close": "valve", "trip": "pump", "release": "coupling", "ramp": "pump"}
+#: The action that applies to each kind that has one (for "use ... instead"): the first that
+#: :data:`EVENT_TARGET` lists for it (a pump: ``trip``; ``ramp`` is named beside it).
+ACTION_FOR_KIND = {kind: action for action, kind in reversed(EVENT_TARGET.items())}
+#: Kinds that take no event, and why (for the message when an event names one).
+NO_EVENT = {
+    "relief": "a relief valve takes no event: it opens and recloses with the pressure",
+    "accumulator": "an accumulator takes no event: it takes in and gives back liquid with "
+    "the pressure",
+}
 
 _EVENT_EXAMPLE = "{at: 0 s, close: shore ESD valve, stroke: 25 s}"
 
@@ -268,10 +276,11 @@ def _event(
     actions = [a for a in EVENT_KEYS if a in m.entries]
     if len(actions) != 1:
         got = " and ".join(actions) if actions else "none"
+        *first, last = EVENT_KEYS
         reader.problem(
             m.line,
             path,
-            f"an event has exactly one of close, trip or release naming an element "
+            f"an event has exactly one of {', '.join(first)} or {last} naming an element "
             f"(got {got}), e.g. {_EVENT_EXAMPLE}",
         )
         return None
@@ -293,6 +302,13 @@ def _event(
         travel = _travel(f)
         if travel is not None:
             kwargs["travel"] = travel
+    elif action == "ramp":
+        kwargs["ramp_time"] = f.value(
+            "ramp_time",
+            partial(q.quantity, kind="time"),
+            required="ramp_time: 15 s",
+            check=positive,
+        )
     if f.failed or element is None:
         return None
     return EVENT_ACTIONS[action](
@@ -317,6 +333,11 @@ def _check_target(f: Fields, action: str, element: str, route: str | None, info:
     elif kind != target:
         instead = ACTION_FOR_KIND.get(kind)
         hint = f"; for a {kind} use '{instead}: {element}'" if instead else ""
+        for other in (a for a, k in EVENT_TARGET.items() if k == kind and a != instead):
+            keys = [k for k in EVENT_KEYS[other] if k not in ("at", other)]
+            hint += f" (or '{other}: {element}'" + (f" with {', '.join(keys)})" if keys else ")")
+        if kind in NO_EVENT:
+            hint = f"; {NO_EVENT[kind]}"
         f.problem(
             action,
             f"'{action}' applies to a {target}, but {element!r} is a {kind}{hint}",

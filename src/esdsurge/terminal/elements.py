@@ -5,7 +5,8 @@
 Each spec reads one element mapping into a :class:`Draft` (the keyword arguments of the model
 class). Valves and couplings may take their bore from a neighbouring element, which only the
 route knows: their drafts carry a ``finish`` function that completes them once the route has
-found that bore.
+found that bore. Reliefs and accumulators sit on a branch at a point of the route: they state no
+bore of the route's own (an accumulator's ``connection`` is the bore of its branch).
 """
 
 from __future__ import annotations
@@ -31,6 +32,25 @@ HOSE_ROUGHNESS = 1.0e-5
 #: velocity in its bore). Common practice, no source: a full-bore coupling of two ball valves
 #: in series loses little; 0.2 is a round, modest value. Give the vendor's value when known.
 COUPLING_K_OPEN = 0.2
+
+#: Pressure rise above the set pressure at which a surge relief valve is fully open, as a
+#: fraction of the set pressure (gauge) [-], when none is given. Common practice, no source:
+#: 10 % is the accumulation usually allowed for relief valves; give the vendor's value when known.
+RELIEF_OVERPRESSURE = 0.10
+
+#: Polytropic exponent of an accumulator's gas during a surge when none is given [-]. From
+#: memory (Wylie & Streeter, Fluid Transients in Systems, 1993, on air chambers): 1.2 is the
+#: value commonly used for surge vessels, between isothermal (1.0) and adiabatic (1.4 for a
+#: diatomic gas such as nitrogen).
+ACCUMULATOR_EXPONENT = 1.2
+
+#: Range of the polytropic exponent accepted [-]: from isothermal (1.0) to adiabatic for a
+#: monatomic gas (5/3, written 1.67); a diatomic gas such as nitrogen is adiabatic at 1.4.
+ACCUMULATOR_EXPONENT_RANGE = (1.0, 1.67)
+
+#: Loss coefficient of the branch between the route and an accumulator when none is given [-],
+#: on the velocity in the branch: one velocity head (the exit loss). Common practice, no source.
+ACCUMULATOR_CONNECTION_LOSS = 1.0
 
 #: Default wall material of pipes and arms.
 DEFAULT_MATERIAL = "carbon steel"
@@ -441,6 +461,109 @@ def _manifold(f: Fields) -> dict[str, Any]:
     return {}
 
 
+def _flow_coefficient(f: Fields, example: str) -> float | None:
+    """Exactly one of ``cv`` or ``kv`` (required), as an effective flow area [m^2]."""
+    given = [k for k in ("cv", "kv") if f.has(k)]
+    if not given:
+        f.missing("cv", example)
+        return None
+    if len(given) > 1:
+        f.problem(
+            given[1],
+            "give exactly one of cv (US gpm/psi^0.5) or kv (m^3/h/bar^0.5), not cv and kv",
+        )
+        return None
+    key = given[0]
+    coefficient = f.value(key, partial(q.number, example=f"{key}: 300"), check=positive)
+    if coefficient is None:
+        return None
+    convert = valves.cv_to_flow_area if key == "cv" else valves.kv_to_flow_area
+    try:
+        return convert(float(coefficient))
+    except PhysicsRangeError as exc:
+        f.problem(key, str(exc))
+        return None
+
+
+def _relief(f: Fields) -> dict[str, Any]:
+    atm = f.reader.atmosphere_abs
+    gauge = partial(q.pressure, reference="gauge", atmosphere_abs=atm)
+    time = partial(q.quantity, kind="time")
+    set_pressure = f.value(
+        "set_pressure",
+        gauge,
+        required="set_pressure: 12 barg",
+        check=lambda p: None if p > 0.0 else "must be above 0 barg",
+    )
+    overpressure = f.value(
+        "overpressure",
+        partial(q.ratio, example="10 %"),
+        check=lambda r: None if 0.0 < r <= 1.0 else "must be above 0 % and at most 100 %",
+    )
+    flow_area = _flow_coefficient(f, "cv: 350 (US gpm/psi^0.5), or kv: 300 (m^3/h/bar^0.5)")
+    opening = f.value("opening_time", time, required="opening_time: 0.5 s", check=positive)
+    closing = f.value("closing_time", time, required="closing_time: 5 s", check=positive)
+    reseats = f.flag("reseats")
+    back = f.value(
+        "back_pressure",
+        gauge,
+        check=lambda p: None if p + atm >= 0.0 else "is below absolute zero (0 bara)",
+    )
+    receiver = f.value("receiver_volume", partial(q.quantity, kind="volume"), check=positive)
+    if set_pressure is not None and back is not None and back >= set_pressure:
+        f.problem(
+            "back_pressure",
+            f"{f.written('back_pressure')} must be below the set pressure "
+            f"{f.written('set_pressure')}: the valve could not discharge",
+        )
+    ratio = overpressure if overpressure is not None else RELIEF_OVERPRESSURE
+    return {
+        "set_pressure_gauge": set_pressure,
+        "full_open_pressure_gauge": (
+            set_pressure * (1.0 + ratio) if set_pressure is not None else None
+        ),
+        "flow_area": flow_area,
+        "opening_time": opening,
+        "closing_time": closing,
+        "reseats": reseats if reseats is not None else True,
+        "back_pressure_gauge": back if back is not None else 0.0,
+        "receiver_volume": receiver,
+    }
+
+
+def _accumulator(f: Fields) -> dict[str, Any]:
+    low, high = ACCUMULATOR_EXPONENT_RANGE
+    volume = f.value(
+        "volume", partial(q.quantity, kind="volume"), required="volume: 2 m^3", check=positive
+    )
+    precharge = f.value(
+        "precharge",
+        partial(q.pressure, reference="abs", atmosphere_abs=f.reader.atmosphere_abs),
+        required="precharge: 4 barg",
+        check=lambda p: None if p > 0.0 else "must be above 0 bara",
+    )
+    temperature = f.value("precharge_temperature", q.temperature)
+    exponent = f.value(
+        "exponent",
+        partial(q.number, example="exponent: 1.2"),
+        check=between(
+            low, high, f"{low:.1f} (isothermal) and {high:.2f} (adiabatic, monatomic gas)"
+        ),
+    )
+    connection = _length(f, "connection", required="connection: 150 mm")
+    loss = f.value(
+        "connection_loss", partial(q.number, example="connection_loss: 1.0"), check=not_negative
+    )
+    return {
+        "volume": volume,
+        "precharge_abs": precharge,
+        "precharge_temperature": temperature if temperature is not None else f.reader.temperature,
+        "exponent": float(exponent) if exponent is not None else ACCUMULATOR_EXPONENT,
+        "connection_diameter": connection,
+        "connection_loss": float(loss) if loss is not None else ACCUMULATOR_CONNECTION_LOSS,
+    }
+
+
 #: Reader of each element kind; keys match :data:`esdsurge.model.ELEMENT_KINDS`.
 SPECS: dict[str, KindSpec] = {
     "tank": KindSpec(("surface", "gas_pressure"), False, _tank),
@@ -467,6 +590,33 @@ SPECS: dict[str, KindSpec] = {
     "valve": KindSpec(("type", "cv", "kv", "k_open", "size", "characteristic"), True, _valve),
     "coupling": KindSpec(("closing_time", "k_open", "type", "characteristic"), True, _coupling),
     "manifold": KindSpec((), True, _manifold),
+    "relief": KindSpec(
+        (
+            "set_pressure",
+            "overpressure",
+            "cv",
+            "kv",
+            "opening_time",
+            "closing_time",
+            "reseats",
+            "back_pressure",
+            "receiver_volume",
+        ),
+        True,
+        _relief,
+    ),
+    "accumulator": KindSpec(
+        (
+            "volume",
+            "precharge",
+            "precharge_temperature",
+            "exponent",
+            "connection",
+            "connection_loss",
+        ),
+        True,
+        _accumulator,
+    ),
 }
 
 

@@ -7,7 +7,9 @@ black and white; a valve that closes in one of the cases is drawn filled.
 Symbols: tank (box with a liquid surface), pump (circle with an arrow in the direction it
 pushes), pipe (straight line), loading arm (a raised line over its apex), hose (a wavy line),
 valve (bow-tie), emergency release coupling (two half bow-ties either side of a break), manifold
-(flange pair with the shore/carrier boundary as a dashed line).
+(flange pair with the shore/carrier boundary as a dashed line), surge relief valve (a branch up
+through an upright bow-tie to a small relief tank), accumulator (a branch up to a round-ended
+vessel, liquid below its gas). A kind without a symbol of its own is drawn as a plain line.
 
 Hand-written SVG: a few shapes in a row; a plotting library would add nothing but fonts and
 margins to fight.
@@ -31,6 +33,8 @@ SLOT = {
     "valve": 0.85,
     "coupling": 0.95,
     "manifold": 0.85,
+    "relief": 0.85,
+    "accumulator": 0.85,
 }
 
 WIDTH = 1000
@@ -168,7 +172,49 @@ def _symbol(e: Element, x0: float, x1: float, closing: set[str]) -> str:
             f'<line x1="{cx:.1f}" y1="{y - 62}" x2="{cx:.1f}" y2="{y + 24}" stroke="{GREY}" '
             'stroke-width="1" stroke-dasharray="4 3"/>'
         )
+    if kind == "relief":
+        return f'<line x1="{x0:.1f}" y1="{y}" x2="{x1:.1f}" y2="{y}" {line}/>' + _relief(cx, y)
+    if kind == "accumulator":
+        return f'<line x1="{x0:.1f}" y1="{y}" x2="{x1:.1f}" y2="{y}" {line}/>' + _accumulator(cx, y)
     return f'<line x1="{x0:.1f}" y1="{y}" x2="{x1:.1f}" y2="{y}" {line}/>'
+
+
+def _relief(cx: float, y: float) -> str:
+    """A branch up from the line through an upright bow-tie (the relief valve) to a tank."""
+    branch = f'stroke="{INK}" stroke-width="2.2"'
+    vy = y - 24.0  # valve centre
+    s, h = 8.0, 5.5
+    tank_w, tank_h = 24.0, 14.0
+    top = y - 62.0
+    return (
+        f'<line x1="{cx:.1f}" y1="{y}" x2="{cx:.1f}" y2="{top + tank_h:.1f}" {branch}/>'
+        f'<path d="M{cx - h:.1f},{vy - s:.1f} L{cx + h:.1f},{vy + s:.1f} '
+        f'L{cx - h:.1f},{vy + s:.1f} L{cx + h:.1f},{vy - s:.1f} Z" fill="#ffffff" '
+        f'stroke="{INK}" stroke-width="1.4" stroke-linejoin="round"/>'
+        f'<rect x="{cx - tank_w / 2:.1f}" y="{top:.1f}" width="{tank_w:.1f}" '
+        f'height="{tank_h:.1f}" fill="#ffffff" stroke="{INK}" stroke-width="1.4"/>'
+        f'<rect x="{cx - tank_w / 2 + 1:.1f}" y="{top + tank_h - 5:.1f}" '
+        f'width="{tank_w - 2:.1f}" height="4" fill="#d9d9d9"/>'
+    )
+
+
+def _accumulator(cx: float, y: float) -> str:
+    """A branch up from the line to a round-ended vessel, liquid (grey) below the gas."""
+    branch = f'stroke="{INK}" stroke-width="2.2"'
+    w, h = 20.0, 40.0
+    bottom = y - 18.0
+    top = bottom - h
+    level = top + h * 0.6
+    return (
+        f'<line x1="{cx:.1f}" y1="{y}" x2="{cx:.1f}" y2="{bottom:.1f}" {branch}/>'
+        f'<rect x="{cx - w / 2:.1f}" y="{top:.1f}" width="{w:.1f}" height="{h:.1f}" '
+        f'rx="{w / 2:.1f}" fill="#ffffff" stroke="{INK}" stroke-width="1.6"/>'
+        f'<path d="M{cx - w / 2 + 1:.1f},{level:.1f} L{cx + w / 2 - 1:.1f},{level:.1f} '
+        f"L{cx + w / 2 - 1:.1f},{bottom - w / 2:.1f} A{w / 2 - 1:.1f},{w / 2 - 1:.1f} 0 0 1 "
+        f'{cx - w / 2 + 1:.1f},{bottom - w / 2:.1f} Z" fill="#d9d9d9"/>'
+        f'<line x1="{cx - w / 2:.1f}" y1="{level:.1f}" x2="{cx + w / 2:.1f}" y2="{level:.1f}" '
+        f'stroke="{INK}" stroke-width="1"/>'
+    )
 
 
 def lineup_svg(
