@@ -325,3 +325,35 @@ def test_branches_at_two_points_of_one_chain_are_refused(eng):
     els.insert(els.index(route.element("valve")) + 1, _accumulator(0.3, 3e5))
     with pytest.raises(InputError, match="branch off at two points"):
         simulate(Route(name="r", elements=tuple(els)), eng.WATER_20C, _case(0.2, 2.0))
+
+
+def test_a_member_without_the_mitigations_runs_as_if_they_were_not_there(eng):
+    # One batch, two members: as designed, and with the relief valve taken out and the ramp
+    # turned back into a trip; the second member matches a route built without them.
+    from esdsurge.engine.run import Variant
+
+    case = _case(0.2, 6.0)
+    with_relief = _route(eng, (_relief(eng, 90.0, 0.4),))
+    run = simulate(
+        with_relief,
+        eng.WATER_20C,
+        case,
+        variants=[Variant(), Variant(label="bare", without=("relief",))],
+        dt_max=0.0005,
+    )
+    bare = simulate(_route(eng), eng.WATER_20C, case, dt_max=0.0005)
+    assert run.dt[0] == run.dt[1] == bare.dt[0]
+    i, k = run.index("line"), bare.index("line")
+    assert run.p_max_abs[1, i] == pytest.approx(bare.p_max_abs[0, k], rel=1e-9)
+    assert run.p_max_abs[0, i] < 0.5 * run.p_max_abs[1, i]
+    assert run.branch_volume[1, 0] == 0.0
+    route = _pumped(eng)
+    ramp = Case(name="r", route="r", product="w", events=(Ramp(element="pump", ramp_time=20.0),))
+    trip = Case(name="t", route="r", product="w", events=(Trip(element="pump"),))
+    both = simulate(
+        route, eng.WATER_20C, ramp, variants=[Variant(), Variant(without=("pump",))], duration=20
+    )
+    alone = simulate(route, eng.WATER_20C, trip, duration=20)
+    j = route.index("line")
+    assert both.p_min_abs[1, j] == pytest.approx(alone.p_min_abs[0, j], rel=1e-9)
+    assert both.p_min_abs[0, j] > both.p_min_abs[1, j]

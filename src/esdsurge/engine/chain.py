@@ -49,6 +49,7 @@ from .codes import (
     A_R,
     A_VTOT,
     A_Z,
+    B_OFF,
     DEV_ACCUM,
     DEV_LOSS,
     DEV_PUMP,
@@ -299,6 +300,8 @@ def branch_flow(b, s0, s1, hs, dt, g, kind, dev_par, work):
     q = 0.0
     for d in range(s0, s1):
         k = kind[d]
+        if dev_par[b, d, B_OFF] > 0.0:
+            continue
         if k == DEV_RELIEF:
             dh = hs - dev_par[b, d, R_HBACK]
             if dh > 0.0:
@@ -425,6 +428,9 @@ def settle_branches(b, s0, s1, hs, qs, dt, g, kind, dev_par, work):
         left -= qd
         work[W_HS, d] = hs
         work[W_QS, d] = qd
+        if dev_par[b, d, B_OFF] > 0.0:
+            work[W_QS, d] = 0.0  # taken out: what is left is round-off
+            continue
         if kind[d] == DEV_ACCUM:
             v = work[W_X, d] - dt * qd
             work[W_X, d] = min(max(v, 1e-300), dev_par[b, d, A_VTOT])

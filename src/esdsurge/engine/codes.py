@@ -39,6 +39,7 @@ A_VTOT = 2  # accumulator: gas volume of the empty vessel [m^3]
 A_R = 3  # accumulator: connection loss, coefficient on Q|Q| [s^2/m^5]
 A_Z = 4  # accumulator: elevation of its connection [m]
 A_V0 = 5  # accumulator: gas volume before the trigger [m^3]
+B_OFF = 12  # relief or accumulator: 1 when taken out (it passes no flow)
 N_PAR = 13
 
 # rows of the kernel's device working array (work[row, device])

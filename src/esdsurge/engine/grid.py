@@ -67,6 +67,7 @@ from .codes import (
     A_V0,
     A_VTOT,
     A_Z,
+    B_OFF,
     DEV_ACCUM,
     DEV_LOSS,
     DEV_POINT,
@@ -384,16 +385,27 @@ def _cell_extremes(
 
 
 def member_events(case: Case, variant: Variant) -> tuple[Event, ...]:
-    """The case's events with the variant's strokes applied."""
+    """The case's events with the variant's strokes and travel curves applied, and the
+    mitigations it takes out undone (a ramp-down becomes a trip, a staged travel linear)."""
     strokes = dict(variant.strokes)
-    out = []
+    travels = dict(variant.travels)
+    out: list[Event] = []
     for ev in case.events:
         if isinstance(ev, Close):
             stroke = strokes.get(ev.element, ev.stroke * variant.stroke_scale)
-            out.append(dataclasses.replace(ev, stroke=stroke))
+            travel = travels.get(ev.element, ev.travel)
+            if ev.element in variant.without:
+                travel = LINEAR_TRAVEL
+            out.append(dataclasses.replace(ev, stroke=stroke, travel=travel))
+        elif isinstance(ev, Ramp) and ev.element in variant.without:
+            out.append(Trip(element=ev.element, at=ev.at, where=ev.where))
         else:
             out.append(ev)
     return tuple(out)
+
+
+#: a valve's travel without stages: open to shut at a steady rate
+LINEAR_TRAVEL = ((0.0, 1.0), (1.0, 0.0))
 
 
 def _closure_time(route: Route, ev: object, strokes: dict[str, float]) -> float | None:
@@ -532,7 +544,7 @@ def build_member(
     closures = [_closure_time(route, ev, strokes) for ev in events]
     closures += [ev.ramp_time for ev in events if isinstance(ev, Ramp)]
     for e in els:
-        if isinstance(e, Relief):
+        if isinstance(e, Relief) and e.name not in variant.without:
             closures += [e.opening_time, e.closing_time]
     closures = [s for s in closures if s is not None and s > 0.0]
     if closures:
@@ -626,7 +638,11 @@ def build_member(
         for pos, d in enumerate(c.devices):
             if d.kind in BRANCH_DEVICES:
                 zp = point_z[c.first_point + pos]
-                dev_par[k] = _branch_parameters(els[d.element], h, zp, fluid, atmosphere_abs)
+                e = els[d.element]
+                if e.name in variant.without:
+                    dev_par[k, B_OFF] = 1.0
+                else:
+                    dev_par[k] = _branch_parameters(e, h, zp, fluid, atmosphere_abs)
             h += _device_head(els[d.element], d.kind, dev_par[k], tables[k], q0)
             k += 1
         if c.right >= 0:

@@ -34,6 +34,11 @@ class Variant:
         to this power: above 1 the flow falls earlier in the travel, below 1 later [-]
     characteristics : ``(element name, ((travel, relative flow coefficient), ...))`` pairs that
         replace a valve's or coupling's characteristic
+    travels : ``(element name, ((fraction of stroke, travel), ...))`` pairs that replace the
+        travel curve of that valve's ``close`` event
+    without : names of mitigations taken out: a relief valve or an accumulator passes no flow,
+        a pump's ``ramp`` becomes a ``trip`` at the same time, a valve's staged ``travel``
+        becomes linear over the same stroke
     """
 
     label: str = ""
@@ -44,6 +49,8 @@ class Variant:
     friction_scale: float = 1.0
     characteristic_power: float = 1.0
     characteristics: tuple[tuple[str, tuple[tuple[float, float], ...]], ...] = ()
+    travels: tuple[tuple[str, tuple[tuple[float, float], ...]], ...] = ()
+    without: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -15,7 +15,15 @@ import numpy as np
 
 from esdsurge.errors import UsageError
 from esdsurge.limits import ResolvedLimits
-from esdsurge.model import Case, Close, Fluid, Terminal
+from esdsurge.model import (
+    BRANCH_KINDS,
+    Case,
+    Close,
+    Fluid,
+    Ramp,
+    Relief,
+    Terminal,
+)
 from esdsurge.studies.derive import CaseDerived, derive_case, first_closing_event
 
 PASS, FAIL, FAIL_STEADY, NO_STEADY = "pass", "fail", "fails before surge", "no steady state"
@@ -77,6 +85,43 @@ class Trace:
 
 
 @dataclass(frozen=True)
+class BranchResult:
+    """What a relief valve or an accumulator did in the run.
+
+    volume : volume into it over the run [m^3] (relieved; an accumulator's net intake)
+    flow_max : largest flow into it [m^3/s] at t_flow_max [s]
+    state_min, state_max : a relief valve's smallest and largest opening [-] (1 fully open),
+        an accumulator's smallest and largest gas volume [m^3]
+    capacity : a relief valve's flow fully open at its full-open pressure [m^3/s] (``None``
+        for an accumulator)
+    time_over_capacity : time a relief valve was fully open with the pressure above its
+        full-open pressure [s]: it was asked to pass more than its capacity
+    receiver_volume : the relief tank's room [m^3] or ``None``; receiver_ok : whether the
+        relieved volume fits (``None`` without a receiver volume)
+    time [s], flow [m^3/s], state : the histories (opening [-] or gas volume [m^3])
+    """
+
+    name: str
+    kind: str
+    volume: float
+    flow_max: float
+    t_flow_max: float
+    state_min: float
+    state_max: float
+    capacity: float | None
+    time_over_capacity: float
+    receiver_volume: float | None
+    receiver_ok: bool | None
+    time: np.ndarray
+    flow: np.ndarray
+    state: np.ndarray
+
+    @property
+    def over_capacity(self) -> bool:
+        return self.time_over_capacity > 0.0
+
+
+@dataclass(frozen=True)
 class CaseCheck:
     """Result of one case.
 
@@ -86,6 +131,9 @@ class CaseCheck:
     manifold : where the carrier-side trace was taken; manifold_peak_abs [Pa] at t [s]
     traces : pressure at the manifold and at the closing element
     run : the engine's Run (``None`` when there is no steady state)
+    branches : what each relief valve and accumulator did
+    without : the mitigations taken out in ``compare``
+    compare : the same case with those mitigations taken out (``None`` when not asked)
     """
 
     case: Case
@@ -104,6 +152,9 @@ class CaseCheck:
     traces: tuple[Trace, ...]
     largest_cavity: float
     largest_cavity_at: str | None
+    branches: tuple[BranchResult, ...] = ()
+    without: tuple[str, ...] = ()
+    compare: CaseCheck | None = None
 
     @property
     def ok(self) -> bool:
@@ -246,10 +297,11 @@ def judge(terminal: Terminal, case: Case, derived: CaseDerived, run, member: int
         traces.append(Trace(closing, run.time, side[member, ic]))
     cav = run.cavity_max[member]
     icav = int(np.argmax(cav))
+    branches = _branches(route, run, member)
     verdict = PASS
     if derived.breaches:
         verdict = FAIL_STEADY
-    elif failing or spill_ok is False:
+    elif failing or spill_ok is False or any(b.receiver_ok is False for b in branches):
         verdict = FAIL
     return CaseCheck(
         case=case,
@@ -268,7 +320,64 @@ def judge(terminal: Terminal, case: Case, derived: CaseDerived, run, member: int
         traces=tuple(traces),
         largest_cavity=float(cav[icav]),
         largest_cavity_at=run.elements[icav] if cav[icav] > 0.0 else None,
+        branches=branches,
     )
+
+
+def _branches(route, run, member: int) -> tuple[BranchResult, ...]:
+    out = []
+    for j, name in enumerate(run.branches):
+        e = route.element(name)
+        volume = float(run.branch_volume[member, j])
+        receiver = e.receiver_volume if isinstance(e, Relief) else None
+        capacity = float(run.branch_capacity[member, j])
+        out.append(
+            BranchResult(
+                name=name,
+                kind=e.kind,
+                volume=volume,
+                flow_max=float(run.branch_flow_max[member, j]),
+                t_flow_max=float(run.t_branch_flow_max[member, j]),
+                state_min=float(run.branch_state_min[member, j]),
+                state_max=float(run.branch_state_max[member, j]),
+                capacity=capacity if isinstance(e, Relief) else None,
+                time_over_capacity=float(run.branch_time_over_capacity[member, j]),
+                receiver_volume=receiver,
+                receiver_ok=None if receiver is None else volume <= receiver,
+                time=run.time,
+                flow=run.branch_flow[member, j],
+                state=run.branch_state[member, j],
+            )
+        )
+    return tuple(out)
+
+
+def mitigations(terminal: Terminal, case: Case) -> dict[str, str]:
+    """The mitigations of ``case`` that ``--without`` can take out: name -> what it is."""
+    route = terminal.routes[case.route]
+    out = {}
+    for e in route.elements:
+        if isinstance(e, BRANCH_KINDS):
+            out[e.name] = "surge relief valve" if isinstance(e, Relief) else "accumulator"
+    for ev in case.events:
+        if isinstance(ev, Ramp):
+            out[ev.element] = "pump ramp-down (becomes a trip)"
+        elif isinstance(ev, Close) and len(ev.travel) > 2:
+            out[ev.element] = "staged closure (becomes linear over the same stroke)"
+    return out
+
+
+def _check_without(terminal: Terminal, cases: list[Case], without: tuple[str, ...]) -> None:
+    known: dict[str, str] = {}
+    for case in cases:
+        known.update(mitigations(terminal, case))
+    unknown = [n for n in without if n not in known]
+    if unknown:
+        have = ", ".join(f"{n!r} ({what})" for n, what in known.items()) or "none"
+        raise UsageError(
+            f"--without {unknown[0]!r}: not a mitigation of the cases checked; their "
+            f"mitigations: {have}"
+        )
 
 
 def check(
@@ -278,24 +387,28 @@ def check(
     stroke: float | None = None,
     rate: float | None = None,
     product: str | None = None,
+    without: tuple[str, ...] = (),
     progress: Callable[[str], None] | None = None,
 ) -> CheckResult:
     """Run the cases of ``terminal`` (all, or those named) and judge them.
 
     stroke : stroke of each case's first closing valve [s] (what-if); rate : transfer rate [m^3/s];
-    product : run every case with this product of the file instead of its own
+    product : run every case with this product of the file instead of its own;
+    without : mitigations to take out in a second member of the same batch, judged beside the
+    case as designed (:func:`mitigations` lists what may be named)
     """
-    from esdsurge.engine import simulate
+    from esdsurge.engine import Variant, simulate
 
     if product is not None and product not in terminal.products:
         raise UsageError(
             f"--product {product!r}: no such product in {terminal.path} "
             f"(products: {', '.join(terminal.products)})"
         )
+    chosen = [c for c in terminal.cases if case_names is None or c.name in case_names]
+    if without:
+        _check_without(terminal, chosen, without)
     out = []
-    for case in terminal.cases:
-        if case_names is not None and case.name not in case_names:
-            continue
+    for case in chosen:
         if progress:
             progress(case.name)
         if stroke is not None:
@@ -305,6 +418,10 @@ def check(
         if product is not None:
             case = dataclasses.replace(case, product=product)
         derived = derive_case(terminal, case)
+        here = tuple(n for n in without if n in mitigations(terminal, case))
+        variants = [Variant()]
+        if here:
+            variants.append(Variant(label="without " + ", ".join(here), without=here))
         run = None
         if derived.steady is not None:
             run = simulate(
@@ -312,9 +429,22 @@ def check(
                 terminal.products[case.product],
                 case,
                 atmosphere_abs=terminal.atmosphere_abs,
+                variants=variants,
             )
-        out.append(judge(terminal, case, derived, run))
+        result = judge(terminal, case, derived, run)
+        if here and run is not None:
+            bare = judge(terminal, case, derived, run, member=1)
+            result = dataclasses.replace(result, without=here, compare=bare)
+        out.append(result)
     return CheckResult(terminal, tuple(out), stroke, rate)
 
 
-__all__ = ["CaseCheck", "CheckResult", "ElementVerdict", "check", "judge"]
+__all__ = [
+    "BranchResult",
+    "CaseCheck",
+    "CheckResult",
+    "ElementVerdict",
+    "check",
+    "judge",
+    "mitigations",
+]
