@@ -158,14 +158,24 @@ def cmd_check(args: argparse.Namespace) -> int:
     rate = _quantity(args.rate, "m^3/h", "--rate") if args.rate else None
 
     def run(terminal, names, tell):
-        return check(terminal, names, stroke=stroke, rate=rate, product=args.product, progress=tell)
+        return check(
+            terminal,
+            names,
+            stroke=stroke,
+            rate=rate,
+            product=args.product,
+            without=tuple(args.without or ()),
+            progress=tell,
+        )
 
     def plots(terminal, res) -> None:
         if args.plot:
             from esdsurge.present.plots import write_case_plots
 
             for cc in res.cases:
-                write_case_plots(cc, Path(args.plot), terminal.atmosphere_abs, args.units)
+                write_case_plots(
+                    cc, Path(args.plot), terminal.atmosphere_abs, args.units, branches=True
+                )
 
     return _study(args, run, check_view, check_json, after=plots, verb="running")
 
@@ -175,7 +185,14 @@ def cmd_stroke(args: argparse.Namespace) -> int:
     from esdsurge.studies.stroke import stroke_windows
 
     def run(terminal, names, tell):
-        return stroke_windows(terminal, names, valve=args.valve, spread=args.spread, progress=tell)
+        return stroke_windows(
+            terminal,
+            names,
+            valve=args.valve,
+            spread=args.spread,
+            stage=args.stage,
+            progress=tell,
+        )
 
     return _study(args, run, stroke_view, stroke_json)
 
@@ -278,6 +295,13 @@ def build_parser() -> argparse.ArgumentParser:
     )
     chk.add_argument("--rate", metavar="RATE", help="transfer rate, e.g. '1500 m^3/h' (what-if)")
     chk.add_argument("--product", metavar="NAME", help="run every case with this product")
+    chk.add_argument(
+        "--without",
+        action="append",
+        metavar="NAME",
+        help="also run each case with this mitigation taken out (a relief valve, an accumulator, "
+        "a pump's ramp-down, a valve's staged closure) and show both (repeatable)",
+    )
     chk.add_argument("--plot", metavar="DIR", help="write PNG figures of each case into DIR")
     chk.set_defaults(func=cmd_check)
 
@@ -297,6 +321,13 @@ def build_parser() -> argparse.ArgumentParser:
     common(stk)
     stk.add_argument("--valve", metavar="NAME", help="vary this valve's stroke instead")
     stk.add_argument("--spread", action="store_true", help=spread_help)
+    stk.add_argument(
+        "--stage",
+        choices=("whole", "slow"),
+        default="whole",
+        help="what to vary: the whole stroke, a staged travel scaled with it (default); or "
+        "'slow': the last stage of the valve's staged travel, its fast stage kept as in the file",
+    )
     stk.set_defaults(func=cmd_stroke)
 
     rte = sub.add_parser(

@@ -158,7 +158,11 @@ def test_every_demo_checks_with_json_and_plots(tmp_path, capsys, path):
                 "ok",
             } <= set(e)
         assert case["spill_m3"] is None or case["spill_m3"] >= 0
+        assert isinstance(case["branches"], list) and "compare" not in case
     assert code == (0 if all(c["verdict"] == "pass" for c in data["cases"]) else 1)
     pngs = sorted((tmp_path / "fig").glob("*.png"))
-    assert len(pngs) == 2 * len(data["cases"])
+    # two figures per case, and a third for a case whose route has relief valves or accumulators
+    with_branches = sum(1 for c in data["cases"] if c["branches"])
+    assert len(pngs) == 2 * len(data["cases"]) + with_branches
+    assert len(list((tmp_path / "fig").glob("*-mitigations.png"))) == with_branches
     assert all(p.stat().st_size > 10_000 for p in pngs)

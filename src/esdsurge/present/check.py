@@ -11,24 +11,36 @@ from rich.rule import Rule
 from rich.table import Table
 from rich.text import Text
 
-from esdsurge.model import Close, Release, Trip
+from esdsurge.model import Close, Ramp, Release, Trip
 from esdsurge.present.cautions import CAUTION
 from esdsurge.present.fmt import Fmt
 from esdsurge.present.jsonout import envelope, rounded
-from esdsurge.studies.check import FAIL_STEADY, NO_STEADY, PASS, CaseCheck, CheckResult
+from esdsurge.studies.check import (
+    FAIL_STEADY,
+    NO_STEADY,
+    PASS,
+    BranchResult,
+    CaseCheck,
+    CheckResult,
+    ElementVerdict,
+)
 
 BARS = "▁▂▃▄▅▆▇█"
 VERDICT_STYLE = {PASS: "bold green", NO_STEADY: "bold yellow"}
 
 
-def sparkline(values: np.ndarray, width: int = 56) -> str:
-    """A one-line trace: the highest value in each of ``width`` bins, on eight levels."""
+def sparkline(values: np.ndarray, width: int = 56, scale: tuple[float, float] | None = None) -> str:
+    """A one-line trace: the highest value in each of ``width`` bins, on eight levels.
+
+    ``scale`` : the values of the lowest and the highest level (two traces drawn on one scale
+    can be compared); by default the trace's own lowest and highest bin.
+    """
     values = np.asarray(values, dtype=float)
     if values.size == 0:
         return ""
     bins = np.array_split(values, min(width, values.size))
     tops = np.array([b.max() for b in bins])
-    lo, hi = float(tops.min()), float(tops.max())
+    lo, hi = (float(tops.min()), float(tops.max())) if scale is None else scale
     if hi - lo <= 0.0:
         return BARS[0] * len(tops)
     idx = np.clip(((tops - lo) / (hi - lo) * (len(BARS) - 1)).round().astype(int), 0, 7)
@@ -45,7 +57,36 @@ def describe_events(cc: CaseCheck, f: Fmt) -> str:
             parts.append(f"{f.time(e.at, 1)} {e.element} trip")
         elif isinstance(e, Release):
             parts.append(f"{f.time(e.at, 1)} {e.element} releases")
+        elif isinstance(e, Ramp):
+            parts.append(f"{f.time(e.at, 1)} {e.element} ramps down in {f.time(e.ramp_time, 1)}")
     return "; ".join(parts)
+
+
+def _mark(ok: bool) -> Text:
+    return Text("✓", style="green") if ok else Text("✗", style="bold red")
+
+
+def _allowed(ev: ElementVerdict, f: Fmt) -> str:
+    lim = ev.limits
+    allowed = f"≤ {f.p_gauge_value(lim.max_gauge)}" if lim.max_gauge is not None else "—"
+    return allowed + f" · ≥ {f.p_abs(lim.min_abs)}"
+
+
+def _name_cell(ev: ElementVerdict, cc: CaseCheck) -> Text:
+    governs = ev.name == cc.governing
+    return Text(ev.name + (" ◀" if governs else ""), style="bold" if governs else "")
+
+
+def _highest(ev: ElementVerdict, f: Fmt) -> Text:
+    return Text(f.p_gauge(ev.p_max_abs), style="" if ev.ok_max else "bold red")
+
+
+def _lowest(ev: ElementVerdict, f: Fmt) -> Text:
+    return Text(f.p_abs(ev.p_min_abs), style="" if ev.ok_min else "bold red")
+
+
+def _cavity(ev: ElementVerdict, f: Fmt) -> str:
+    return f.cavity(ev.cavity_max) if ev.cavity_max > 0 else "—"
 
 
 def _element_table(cc: CaseCheck, f: Fmt) -> Table:
@@ -62,31 +103,144 @@ def _element_table(cc: CaseCheck, f: Fmt) -> Table:
     ):
         t.add_column(name, justify=just, no_wrap=True)  # type: ignore[arg-type]
     for ev in cc.elements:
-        mark = Text("✓", style="green") if ev.ok else Text("✗", style="bold red")
         where = f.time(ev.t_p_max, 1)
         if ev.kind in ("pipe", "arm", "hose"):
             where += f", {f.length(ev.x_p_max)}"
-        lim = ev.limits
-        allowed = f"≤ {f.p_gauge_value(lim.max_gauge)}" if lim.max_gauge is not None else "—"
-        allowed += f" · ≥ {f.p_abs(lim.min_abs)}"
         if ev.margin_max is None:
             margin = "—"
         else:
             margin = f.dp(ev.margin_max)
         if not ev.ok_min:
             margin += " · cavity" if ev.cavity_max > 0 else f" · {f.dp(ev.margin_min)} below min"
-        style = "bold" if ev.name == cc.governing else ""
         t.add_row(
-            mark,
-            Text(ev.name + (" ◀" if ev.name == cc.governing else ""), style=style),
-            Text(f.p_gauge(ev.p_max_abs), style="" if ev.ok_max else "bold red"),
+            _mark(ev.ok),
+            _name_cell(ev, cc),
+            _highest(ev, f),
             where,
-            Text(f.p_abs(ev.p_min_abs), style="" if ev.ok_min else "bold red"),
-            f.cavity(ev.cavity_max) if ev.cavity_max > 0 else "—",
-            allowed,
+            _lowest(ev, f),
+            _cavity(ev, f),
+            _allowed(ev, f),
             Text(margin, style="" if ev.ok else "bold red"),
         )
     return t
+
+
+def without_label(cc: CaseCheck) -> str:
+    """``without X, Y``: what the comparison of ``cc`` took out, in words.
+
+    A relief valve or an accumulator by its name; a valve's staged closure and a pump's
+    ramp-down by what was taken out of them (the valve and the pump stay).
+    """
+    words = []
+    for name in cc.without:
+        events = [e for e in cc.case.events if e.element == name]
+        if any(isinstance(e, Ramp) for e in events):
+            words.append(f"the ramp-down of {name}")
+        elif any(isinstance(e, Close) and len(e.travel) > 2 for e in events):
+            words.append(f"the staged closure of {name}")
+        else:
+            words.append(name)
+    return "without " + ", ".join(words)
+
+
+def _compare_table(cc: CaseCheck, f: Fmt) -> Table:
+    """The elements of the case as designed and without its mitigations, side by side."""
+    other = cc.compare
+    assert other is not None
+    bare = {ev.name: ev for ev in other.elements}
+    cavities = any(ev.cavity_max > 0 for ev in (*cc.elements, *other.elements))
+    t = Table(box=None, pad_edge=False, header_style="bold", expand=False)
+    t.add_column("", no_wrap=True)
+    t.add_column("\nelement", no_wrap=True)
+    for group in ("as designed", "without"):
+        if group == "without":
+            t.add_column("", no_wrap=True)
+        t.add_column(f"{group}\nhighest", justify="right", no_wrap=True)
+        t.add_column("\nlowest", justify="right", no_wrap=True)
+        if cavities:
+            t.add_column("\ncavity", justify="right", no_wrap=True)
+    t.add_column("\nallowed", justify="right", no_wrap=True)
+    for ev in cc.elements:
+        row: list[RenderableType] = [_mark(ev.ok), _name_cell(ev, cc)]
+        for side in (ev, bare.get(ev.name)):
+            if side is None:  # an element judged in one member only: not expected
+                row += ["", "—", "—"] + (["—"] if cavities else [])
+                continue
+            if side is not ev:
+                row.append(_mark(side.ok))
+            row += [_highest(side, f), _lowest(side, f)]
+            if cavities:
+                row.append(_cavity(side, f))
+        row.append(_allowed(ev, f))
+        t.add_row(*row)
+    return t
+
+
+def _relief_lines(b: BranchResult, f: Fmt) -> list[Text]:
+    out = [Text(f"  {b.name} (surge relief valve): ")]
+    if b.state_max <= 0.0:
+        out[0].append("stayed shut, the pressure never reached its set pressure")
+    else:
+        out[0].append(f"relieved {f.small_volume(b.volume)}")
+        if b.receiver_volume is not None:
+            out[0].append(f" into a receiver with room for {f.small_volume(b.receiver_volume)}")
+        out.append(
+            Text(
+                f"    peak flow {f.flow(b.flow_max)} at {f.time(b.t_flow_max, 1)} · largest "
+                f"opening {f.percent(b.state_max)} · capacity fully open "
+                + (f.flow(b.capacity) if b.capacity is not None else "—")
+            )
+        )
+    if b.over_capacity:
+        out.append(
+            Text(
+                f"  ✗ {b.name} would pass more than its capacity: fully open above its "
+                f"full-open pressure for {f.time(b.time_over_capacity, 1)}",
+                style="bold red",
+            )
+        )
+    if b.receiver_ok is False:
+        out.append(
+            Text(
+                f"  ✗ {b.name} overflows its receiver: relieved {f.small_volume(b.volume)} "
+                f"into room for {f.small_volume(b.receiver_volume)}",
+                style="bold red",
+            )
+        )
+    return out
+
+
+def _accumulator_lines(b: BranchResult, f: Fmt) -> list[Text]:
+    def gas(v: float) -> str:  # the gas volumes in one unit, that of the largest
+        return f.small_volume(v, like=b.state_max)
+
+    before = gas(float(b.state[0])) if len(b.state) else "—"
+    return [
+        Text(
+            f"  {b.name} (accumulator): gas {before} before · {gas(b.state_min)} smallest · "
+            f"{gas(b.state_max)} largest"
+        ),
+        Text(
+            f"    net volume taken in {gas(b.volume)} · peak flow in "
+            f"{f.flow(b.flow_max)} at {f.time(b.t_flow_max, 1)}, out {f.flow(b.flow_out_max)} "
+            f"at {f.time(b.t_flow_out_max, 1)}"
+        ),
+    ]
+
+
+def mitigations_view(cc: CaseCheck, f: Fmt) -> list[Text]:
+    """What each relief valve and accumulator of the case as designed did."""
+    if not cc.branches:
+        return []
+    out = [
+        Text(
+            "relief valves and accumulators" + (", as designed:" if cc.compare else ":"),
+            style="bold",
+        )
+    ]
+    for b in cc.branches:
+        out += _relief_lines(b, f) if b.kind == "relief" else _accumulator_lines(b, f)
+    return out
 
 
 def _governing_line(cc: CaseCheck, f: Fmt) -> Text:
@@ -111,6 +265,43 @@ def _governing_line(cc: CaseCheck, f: Fmt) -> Text:
     return txt
 
 
+def _trace_lines(cc: CaseCheck, f: Fmt) -> list[Text]:
+    """The carrier-side trace as a sparkline; with a comparison both, on one scale."""
+    if cc.compare is None or not cc.compare.traces:
+        tr = cc.traces[0]
+        line = Text()
+        line.append(f"{cc.manifold}: ", style="bold")
+        line.append(sparkline(tr.p_abs), style="cyan")
+        line.append(
+            f"  peak {f.p_gauge(cc.manifold_peak_abs)} at {f.time(cc.t_manifold_peak, 1)}"
+            f" (trace {f.time(float(tr.time[0]), 0)}–{f.time(float(tr.time[-1]), 0)}, "
+            f"{f.p_gauge(float(tr.p_abs.min()))} to {f.p_gauge(float(tr.p_abs.max()))})"
+        )
+        return [line]
+    pair = (("as designed", cc), (without_label(cc), cc.compare))
+    low = min(float(one.traces[0].p_abs.min()) for _, one in pair)
+    high = max(float(one.traces[0].p_abs.max()) for _, one in pair)
+    tr = cc.traces[0]
+    out = [
+        Text(f"{cc.manifold}: ", style="bold").append(
+            f"trace {f.time(float(tr.time[0]), 0)}–{f.time(float(tr.time[-1]), 0)}, both on "
+            f"one scale from {f.p_gauge(low)} to {f.p_gauge(high)}",
+            style="",
+        )
+    ]
+    label_width = max(len(label) for label, _ in pair)
+    # keep the lines within about 110 columns however long the names are
+    width = max(24, min(56, 110 - 4 - label_width - 28))
+    for label, one in pair:
+        line = Text(f"  {label:<{label_width}}  ")
+        line.append(sparkline(one.traces[0].p_abs, width, scale=(low, high)), style="cyan")
+        line.append(
+            f"  peak {f.p_gauge(one.manifold_peak_abs)} at {f.time(one.t_manifold_peak, 1)}"
+        )
+        out.append(line)
+    return out
+
+
 def case_view(cc: CaseCheck, f: Fmt) -> RenderableType:
     verdict = cc.verdict.upper()
     style = VERDICT_STYLE.get(cc.verdict, "bold red")
@@ -118,7 +309,19 @@ def case_view(cc: CaseCheck, f: Fmt) -> RenderableType:
     parts: list[RenderableType] = [Rule(title, style=style.replace("bold ", ""), align="left")]
     head = Text()
     head.append(f"{verdict}", style=style + " reverse")
-    head.append(f"  route {cc.case.route} · {cc.case.product}")
+    if cc.compare is not None:
+        # both verdicts on the first line, the route on the next
+        head.append(" as designed · ")
+        head.append(
+            cc.compare.verdict.upper(),
+            style=VERDICT_STYLE.get(cc.compare.verdict, "bold red") + " reverse",
+        )
+        head.append(f" {without_label(cc)}")
+        parts.append(head)
+        head = Text()
+    else:
+        head.append("  ")
+    head.append(f"route {cc.case.route} · {cc.case.product}")
     s = cc.derived.steady
     if s is not None:
         direction = "to the carrier" if s.flow >= 0 else "to the shore"
@@ -138,20 +341,27 @@ def case_view(cc: CaseCheck, f: Fmt) -> RenderableType:
                     style="bold red",
                 )
             )
-    parts.append(_element_table(cc, f))
-    if cc.governing:
-        parts.append(_governing_line(cc, f))
+    cmp = cc.compare
+    if cmp is None:
+        parts.append(_element_table(cc, f))
+    else:
+        legend = f"left as designed, right {without_label(cc)}"
+        note = " (the exit status follows the case as designed)"
+        parts.append(Text(legend + (note if len(legend + note) <= 110 else ""), style="dim"))
+        parts.append(_compare_table(cc, f))
+    parts += mitigations_view(cc, f)
+    if cmp is None:
+        if cc.governing:
+            parts.append(_governing_line(cc, f))
+    else:
+        for label, one in (("as designed", cc), (without_label(cc), cmp)):
+            line = Text(f"{label}: ", style="bold")
+            line.append(one.verdict.upper(), style=VERDICT_STYLE.get(one.verdict, "bold red"))
+            parts.append(line)
+            if one.governing:
+                parts.append(Text("  ").append(_governing_line(one, f)))
     if cc.manifold and cc.traces:
-        tr = cc.traces[0]
-        line = Text()
-        line.append(f"{cc.manifold}: ", style="bold")
-        line.append(sparkline(tr.p_abs), style="cyan")
-        line.append(
-            f"  peak {f.p_gauge(cc.manifold_peak_abs)} at {f.time(cc.t_manifold_peak, 1)}"
-            f" (trace {f.time(float(tr.time[0]), 0)}–{f.time(float(tr.time[-1]), 0)}, "
-            f"{f.p_gauge(float(tr.p_abs.min()))} to {f.p_gauge(float(tr.p_abs.max()))})"
-        )
-        parts.append(line)
+        parts += _trace_lines(cc, f)
     h = cc.derived.hand
     if h is not None and s is not None:
         closing = next((e for e in cc.elements if e.name == h.valve), None)
@@ -241,6 +451,7 @@ def case_json(cc: CaseCheck, atm: float) -> dict[str, Any]:
         "spill_m3": _r(cc.spill),
         "spill_limit_m3": _r(cc.case.spill_limit),
         "closing_element": cc.closing,
+        "branches": [branch_json(b) for b in cc.branches],
     }
     if cc.verdict == NO_STEADY:
         entry["problem"] = cc.derived.problem
@@ -289,12 +500,46 @@ def case_json(cc: CaseCheck, atm: float) -> dict[str, Any]:
     run = cc.run
     if run is not None:
         entry["engine"] = {
-            "dt_s": _r(float(run.dt[0]), 7),  # type: ignore[attr-defined]
+            "dt_s": _r(float(run.dt[cc.member]), 7),  # type: ignore[attr-defined]
             "duration_s": _r(run.duration),  # type: ignore[attr-defined]
             "worst_wave_speed_adjustment": _r(
-                float(np.nanmax(np.abs(run.wave_speed_adjustment[0]))),
+                float(np.nanmax(np.abs(run.wave_speed_adjustment[cc.member]))),
                 5,  # type: ignore[attr-defined]
             ),
+        }
+    if cc.compare is not None:
+        # the same case without its mitigations, built by this same function
+        entry["without"] = list(cc.without)
+        entry["compare"] = case_json(cc.compare, atm)
+    return entry
+
+
+def branch_json(b: BranchResult) -> dict[str, Any]:
+    """What a relief valve or an accumulator did (flows in m^3/h, volumes in m^3)."""
+    entry: dict[str, Any] = {
+        "name": b.name,
+        "kind": b.kind,
+        "volume_m3": _r(b.volume, 6),
+        "flow_max_m3h": _r(b.flow_max * 3600, 3),
+        "t_flow_max_s": _r(b.t_flow_max),
+    }
+    if b.kind == "relief":
+        entry |= {
+            "opening_min": _r(b.state_min),
+            "opening_max": _r(b.state_max),
+            "capacity_m3h": _r(b.capacity * 3600, 3) if b.capacity is not None else None,
+            "time_over_capacity_s": _r(b.time_over_capacity),
+            "over_capacity": b.over_capacity,
+            "receiver_volume_m3": _r(b.receiver_volume, 6),
+            "receiver_ok": b.receiver_ok,
+        }
+    else:
+        entry |= {
+            "gas_volume_start_m3": _r(float(b.state[0]), 6) if len(b.state) else None,
+            "gas_volume_min_m3": _r(b.state_min, 6),
+            "gas_volume_max_m3": _r(b.state_max, 6),
+            "flow_out_max_m3h": _r(b.flow_out_max * 3600, 3),
+            "t_flow_out_max_s": _r(b.t_flow_out_max),
         }
     return entry
 

@@ -98,10 +98,24 @@ class Fmt:
 
     def cavity(self, v: float) -> str:
         """A vapour cavity volume [m^3]: litres (or US gallons) when small."""
+        return self.small_volume(v)
+
+    def small_volume(self, v: float, like: float | None = None) -> str:
+        """A volume [m^3] that may be small (a cavity, an accumulator's gas): litres (or US
+        gallons) below 0.1 m^3 (100 US gal), else m^3 (bbl); the sign is kept.
+
+        ``like`` [m^3] : choose the unit as for this volume instead, so that volumes shown
+        together share their unit.
+        """
+        ref = abs(v if like is None else like)
         if self.us:
             gal = v / US_GALLON
-            return f"{gal:.3g} US gal" if gal < 100 else f"{v / BARREL:.1f} bbl"
-        return f"{v * 1000:.3g} L" if v < 0.1 else f"{v:.2f} m³"
+            return f"{gal:.3g} US gal" if ref / US_GALLON < 100 else f"{v / BARREL:.1f} bbl"
+        return f"{v * 1000:.3g} L" if ref < 0.1 else f"{v:.2f} m³"
+
+    def percent(self, x: float, digits: int = 0) -> str:
+        """A fraction [-] as a percentage."""
+        return f"{x * 100:.{digits}f} %"
 
     def time(self, t: float | None, digits: int = 2) -> str:
         if t is None:

@@ -1,6 +1,9 @@
-"""Figures of a check (matplotlib, Agg): traces against time and envelopes along the route.
+"""Figures of a check (matplotlib, Agg): traces against time, envelopes along the route, and
+what the relief valves and accumulators did.
 
-Reads ``CaseCheck`` objects; converts units for the axes and computes nothing else.
+Reads ``CaseCheck`` objects; converts units for the axes and computes nothing else. A case
+checked with ``--without`` carries its comparison (``CaseCheck.compare``), drawn dashed over the
+case as designed.
 """
 
 from __future__ import annotations
@@ -10,7 +13,8 @@ from pathlib import Path
 
 import numpy as np
 
-from esdsurge.present.fmt import FOOT, PSI
+from esdsurge.present.check import without_label
+from esdsurge.present.fmt import FOOT, PSI, US_GALLON
 from esdsurge.studies.check import CaseCheck
 
 
@@ -41,8 +45,21 @@ def plot_traces(cc: CaseCheck, path: Path, atmosphere_abs: float, units: str = "
     scale, g_unit, _ = _p_axis(units)
     fig, ax = plt.subplots(figsize=(9, 4.8), dpi=110)
     colours = ["#1f5fa8", "#c2571a"]
+    other = cc.compare
     for tr, c in zip(cc.traces, colours, strict=False):
-        ax.plot(tr.time, (tr.p_abs - atmosphere_abs) / scale, color=c, lw=1.4, label=tr.where)
+        label = tr.where if other is None else f"{tr.where}, as designed"
+        ax.plot(tr.time, (tr.p_abs - atmosphere_abs) / scale, color=c, lw=1.4, label=label)
+    if other is not None:
+        for tr, c in zip(other.traces, colours, strict=False):
+            ax.plot(
+                tr.time,
+                (tr.p_abs - atmosphere_abs) / scale,
+                color=c,
+                lw=1.1,
+                ls="--",
+                alpha=0.85,
+                label=f"{tr.where}, {without_label(cc)}",
+            )
     # each distinct limit of the traced elements once, labelled with the elements it belongs to
     limits: dict[float, list[str]] = {}
     traced = {t.where for t in cc.traces}
@@ -78,7 +95,7 @@ def plot_envelope(cc: CaseCheck, path: Path, atmosphere_abs: float, units: str =
     plt = _mpl()
     run = cc.run
     assert run is not None
-    env = run.envelopes[0]  # type: ignore[attr-defined]
+    env = run.envelopes[cc.member]  # type: ignore[attr-defined]
     scale, g_unit, _ = _p_axis(units)
     xs_scale, x_unit = (FOOT, "ft") if units == "us" else (1.0, "m")
     x = np.asarray(env.x) / xs_scale
@@ -93,8 +110,36 @@ def plot_envelope(cc: CaseCheck, path: Path, atmosphere_abs: float, units: str =
         alpha=0.5,
         label="range over the run",
     )
-    ax.plot(x, (env.p_max_abs - atmosphere_abs) / scale, color="#1f5fa8", lw=1.4, label="highest")
-    ax.plot(x, (env.p_min_abs - atmosphere_abs) / scale, color="#2a8a5c", lw=1.2, label="lowest")
+    designed = "" if cc.compare is None else ", as designed"
+    ax.plot(
+        x,
+        (env.p_max_abs - atmosphere_abs) / scale,
+        color="#1f5fa8",
+        lw=1.4,
+        label="highest" + designed,
+    )
+    ax.plot(
+        x,
+        (env.p_min_abs - atmosphere_abs) / scale,
+        color="#2a8a5c",
+        lw=1.2,
+        label="lowest" + designed,
+    )
+    if cc.compare is not None:
+        # each member has its own grid: the comparison is drawn on its own nodes
+        bare = run.envelopes[cc.compare.member]  # type: ignore[attr-defined]
+        for values, colour, what in (
+            (bare.p_max_abs, "#1f5fa8", "highest"),
+            (bare.p_min_abs, "#2a8a5c", "lowest"),
+        ):
+            ax.plot(
+                np.asarray(bare.x) / xs_scale,
+                (values - atmosphere_abs) / scale,
+                color=colour,
+                lw=1.1,
+                ls="--",
+                label=f"{what}, {without_label(cc)}",
+            )
     # limits per element, drawn over the element's span
     el_idx = np.asarray(env.element)
     verdicts = {ev.name: ev for ev in cc.elements}
@@ -156,15 +201,88 @@ def plot_envelope(cc: CaseCheck, path: Path, atmosphere_abs: float, units: str =
     return path
 
 
+def plot_branches(cc: CaseCheck, path: Path, units: str = "si") -> Path:
+    """Flow into each relief valve and accumulator, and its opening or gas volume, against time.
+
+    One panel of flows; below it one panel of relief-valve openings and one of accumulator gas
+    volumes, for the kinds the case has. A relief valve's capacity is drawn as a dotted line.
+    """
+    plt = _mpl()
+    if units == "us":
+        q_scale, q_unit = US_GALLON / 60.0, "US gpm"
+        v_scale, v_unit = US_GALLON, "US gal"
+    else:
+        q_scale, q_unit = 1.0 / 3600.0, "m³/h"
+        v_scale, v_unit = 1e-3, "L"
+    reliefs = [b for b in cc.branches if b.kind == "relief"]
+    vessels = [b for b in cc.branches if b.kind != "relief"]
+    rows = 1 + bool(reliefs) + bool(vessels)
+    fig, axes = plt.subplots(
+        rows, 1, figsize=(9, 2.3 + 2.0 * rows), dpi=110, sharex=True, squeeze=False
+    )
+    axq = axes[0][0]
+    colours = ["#1f5fa8", "#c2571a", "#2a8a5c", "#7a3fa0", "#b8860b", "#555555"]
+    colour = {b.name: colours[i % len(colours)] for i, b in enumerate(cc.branches)}
+    for b in cc.branches:
+        axq.plot(b.time, b.flow / q_scale, color=colour[b.name], lw=1.3, label=b.name)
+        if b.capacity is not None:
+            axq.axhline(
+                b.capacity / q_scale,
+                color=colour[b.name],
+                lw=0.9,
+                ls=":",
+                label=f"{b.name}: capacity fully open",
+            )
+    axq.axhline(0.0, color="0.5", lw=0.6)
+    axq.set_ylabel(f"flow in [{q_unit}]")
+    axq.set_title(f"{cc.case.name}: relief valves and accumulators as designed", fontsize=11)
+    row = 1
+    if reliefs:
+        ax = axes[row][0]
+        for b in reliefs:
+            ax.plot(b.time, b.state * 100.0, color=colour[b.name], lw=1.3, label=b.name)
+        ax.set_ylabel("relief opening [%]")
+        ax.set_ylim(-5, 105)
+        row += 1
+    if vessels:
+        ax = axes[row][0]
+        for b in vessels:
+            ax.plot(b.time, b.state / v_scale, color=colour[b.name], lw=1.3, label=b.name)
+        ax.set_ylabel(f"gas volume [{v_unit}]")
+    for e in cc.case.events:
+        for (a,) in axes:
+            a.axvline(e.at, color="0.6", lw=0.8, ls=":")
+    for (a,) in axes:
+        a.grid(True, color="0.9")
+        a.legend(loc="best", fontsize=8)
+    axes[-1][0].set_xlabel("time after the trigger [s]")
+    fig.tight_layout()
+    fig.savefig(path)
+    plt.close(fig)
+    return path
+
+
 def write_case_plots(
-    cc: CaseCheck, folder: Path, atmosphere_abs: float, units: str = "si"
+    cc: CaseCheck,
+    folder: Path,
+    atmosphere_abs: float,
+    units: str = "si",
+    *,
+    branches: bool = False,
 ) -> list[Path]:
-    """Both figures of a case into ``folder``; returns the paths written."""
+    """The figures of a case into ``folder``; returns the paths written.
+
+    Always the pressure traces and the envelope (with the comparison overlaid when the case
+    has one); with ``branches`` also the relief valves and accumulators, when the case has any.
+    """
     if cc.run is None:
         return []
     folder.mkdir(parents=True, exist_ok=True)
     base = slug(cc.case.name)
-    return [
+    out = [
         plot_traces(cc, folder / f"{base}-traces.png", atmosphere_abs, units),
         plot_envelope(cc, folder / f"{base}-envelope.png", atmosphere_abs, units),
     ]
+    if branches and cc.branches:
+        out.append(plot_branches(cc, folder / f"{base}-mitigations.png", units))
+    return out

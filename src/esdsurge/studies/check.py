@@ -99,6 +99,8 @@ class BranchResult:
     receiver_volume : the relief tank's room [m^3] or ``None``; receiver_ok : whether the
         relieved volume fits (``None`` without a receiver volume)
     time [s], flow [m^3/s], state : the histories (opening [-] or gas volume [m^3])
+    flow_out_max : largest flow out of it back into the route [m^3/s] (>= 0; an accumulator
+        giving liquid back) at t_flow_out_max [s], from the sampled history
     """
 
     name: str
@@ -115,6 +117,8 @@ class BranchResult:
     time: np.ndarray
     flow: np.ndarray
     state: np.ndarray
+    flow_out_max: float = 0.0
+    t_flow_out_max: float = 0.0
 
     @property
     def over_capacity(self) -> bool:
@@ -134,6 +138,8 @@ class CaseCheck:
     branches : what each relief valve and accumulator did
     without : the mitigations taken out in ``compare``
     compare : the same case with those mitigations taken out (``None`` when not asked)
+    member : the batch member of ``run`` that this result judges (0 as designed; ``compare``
+        is another member of the same run)
     """
 
     case: Case
@@ -155,6 +161,7 @@ class CaseCheck:
     branches: tuple[BranchResult, ...] = ()
     without: tuple[str, ...] = ()
     compare: CaseCheck | None = None
+    member: int = 0
 
     @property
     def ok(self) -> bool:
@@ -321,6 +328,7 @@ def judge(terminal: Terminal, case: Case, derived: CaseDerived, run, member: int
         largest_cavity=float(cav[icav]),
         largest_cavity_at=run.elements[icav] if cav[icav] > 0.0 else None,
         branches=branches,
+        member=member,
     )
 
 
@@ -331,6 +339,8 @@ def _branches(route, run, member: int) -> tuple[BranchResult, ...]:
         volume = float(run.branch_volume[member, j])
         receiver = e.receiver_volume if isinstance(e, Relief) else None
         capacity = float(run.branch_capacity[member, j])
+        flow = run.branch_flow[member, j]
+        k_out = int(np.argmin(flow))
         out.append(
             BranchResult(
                 name=name,
@@ -345,8 +355,10 @@ def _branches(route, run, member: int) -> tuple[BranchResult, ...]:
                 receiver_volume=receiver,
                 receiver_ok=None if receiver is None else volume <= receiver,
                 time=run.time,
-                flow=run.branch_flow[member, j],
+                flow=flow,
                 state=run.branch_state[member, j],
+                flow_out_max=max(-float(flow[k_out]), 0.0) + 0.0,  # no negative zero
+                t_flow_out_max=float(run.time[k_out]),
             )
         )
     return tuple(out)
