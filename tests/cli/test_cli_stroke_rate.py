@@ -152,6 +152,57 @@ def test_stroke_unknown_valve_is_exit_2(capsys, line):
     assert "no close or release event" in err and out == ""
 
 
+STAGED = "stroke: 20 s, travel: [[0, 100 %], [0.4, 40 %], [1, 0 %]]}"
+
+
+def test_stroke_slow_stage_json(capsys, line):
+    path = line()
+    path.write_text(path.read_text().replace("stroke: 20 s}", STAGED), encoding="utf-8")
+    code, out, err = run(capsys, "stroke", path, "--stage", "slow", "--json")
+    assert code == 0, err
+    case = json.loads(out)["cases"][0]
+    assert case["stage"] == "slow" and case["staged"] is True
+    # the fast stage, 0.4 of the 20 s stroke to 40 % open, is kept; 12 s of slow stage
+    assert case["fast_stage_s"] == pytest.approx(8.0)
+    assert case["fast_stage_to"] == pytest.approx(0.4)
+    assert case["slow_stage_file_s"] == pytest.approx(12.0)
+    assert case["stroke_file_s"] == pytest.approx(20.0)
+    # the window is of the slow stage, with the whole stroke beside it
+    assert 0.0 < case["stroke_min_s"] < case["recommended_s"] < case["stroke_max_s"]
+    for key in ("stroke_min_s", "stroke_max_s", "recommended_s"):
+        assert case["whole_" + key] == pytest.approx(8.0 + case[key])
+    assert all(s["whole_stroke_s"] == pytest.approx(8.0 + s["stroke_s"]) for s in case["samples"])
+    assert "spill limit" in case["max_governed_by"]
+
+
+def test_stroke_whole_stage_keeps_its_keys(capsys, line):
+    code, out, err = run(capsys, "stroke", line(), "--json")
+    assert code == 0, err
+    case = json.loads(out)["cases"][0]
+    assert case["stage"] == "whole"
+    assert not any(k.startswith("whole_") or k.startswith("fast_stage") for k in case)
+
+
+def test_stroke_slow_stage_human_output(capsys, line):
+    path = line()
+    path.write_text(path.read_text().replace("stroke: 20 s}", STAGED), encoding="utf-8")
+    code, out, _ = run(capsys, "stroke", path, "--stage", "slow")
+    assert code == 0
+    out = " ".join(out.split())  # lines wrap at the console's width
+    assert "safe slow stage window:" in out
+    assert "a fast stage of 8.0 s to 40 % open" in out
+    assert "fastest safe slow stage" in out and "(whole stroke" in out
+    assert "the file's slow stage 12.0 s (whole stroke 20.0 s)" in out
+
+
+def test_stroke_slow_stage_without_stages_is_exit_2(capsys, line):
+    code, out, err = run(capsys, "stroke", line(), "--stage", "slow")
+    assert code == 2 and out == ""
+    assert "--stage slow" in err and "'linear closure'" in err and "'end valve'" in err
+    assert "no staged travel" in err
+    assert "Traceback" not in err
+
+
 def test_stroke_bad_file_is_exit_2(capsys, tmp_path):
     path = tmp_path / "bad.yaml"
     path.write_text(LINE.format(spill="3").replace("length: 1000 m", "length: 1000"))

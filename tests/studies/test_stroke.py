@@ -11,12 +11,22 @@ import dataclasses
 import math
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from esdsurge.errors import UsageError
 from esdsurge.model import Close
+from esdsurge.physics.valves import travel_at, validate_travel_curve
 from esdsurge.studies.batch import Breach, Point
 from esdsurge.studies.check import check
-from esdsurge.studies.stroke import closing_event, effective_closure, stroke_window
+from esdsurge.studies.stroke import (
+    closing_event,
+    effective_closure,
+    fast_stage,
+    slow_stage_travel,
+    stroke_window,
+    stroke_windows,
+)
 from esdsurge.studies.window import Track, worse_places
 from esdsurge.terminal import load
 
@@ -179,6 +189,183 @@ def test_staged_travel_keeps_its_shape(tmp_path):
     assert t20 / t10 == pytest.approx(2.0, rel=0.02)
     sw = stroke_window(terminal, case)
     assert sw.staged and not sw.nominal.empty
+
+
+# --- the slow stage of a staged closure (--stage slow) -----------------------------------------
+
+
+@st.composite
+def staged_curves(draw):
+    """A staged travel curve: (0, 1), one to three interior points, (1, 0)."""
+    n = draw(st.integers(1, 3))
+    fractions = sorted(draw(st.sets(st.integers(1, 99), min_size=n, max_size=n)))
+    travel = sorted(draw(st.lists(st.integers(1, 99), min_size=n, max_size=n)), reverse=True)
+    inner = tuple((f / 100.0, x / 100.0) for f, x in zip(fractions, travel, strict=True))
+    return ((0.0, 1.0), *inner, (1.0, 0.0))
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    curve=staged_curves(),
+    stroke=st.floats(1.0, 120.0),
+    slow=st.floats(0.5, 120.0),
+)
+def test_slow_stage_travel_keeps_the_fast_stage(curve, stroke, slow):
+    whole, new = slow_stage_travel(curve, stroke, slow)
+    t_fast = fast_stage(curve, stroke)
+    # the definition of --stage slow (common practice, no source): the fast stage keeps its
+    # duration, the whole stroke is the fast stage and the slow stage
+    assert t_fast == pytest.approx(curve[-2][0] * stroke)
+    assert whole == pytest.approx(t_fast + slow)
+    assert validate_travel_curve(new) is None
+    assert len(new) == len(curve) and new[-1] == (1.0, 0.0)
+    for (f, x), (g, y) in zip(curve[:-1], new[:-1], strict=True):
+        # every point of the fast stage at the same absolute time, with the same travel
+        assert g * whole == pytest.approx(f * stroke, rel=1e-12, abs=1e-12)
+        assert y == x
+    # the shape of the fast stage in time is unchanged: the same travel at every moment of it
+    for t in (0.25 * t_fast, 0.5 * t_fast, 0.9 * t_fast, t_fast):
+        assert travel_at(new, whole, t) == pytest.approx(travel_at(curve, stroke, t), abs=1e-9)
+    # and the last stage runs from the breakpoint's travel to shut, linearly, over ``slow``
+    x_b = curve[-2][1]
+    for share in (0.0, 0.3, 0.7, 1.0):
+        t = t_fast + share * slow
+        assert travel_at(new, whole, t) == pytest.approx(x_b * (1.0 - share), abs=1e-9)
+
+
+def test_slow_stage_travel_of_the_file_is_the_file():
+    curve = ((0.0, 1.0), (0.2, 0.6), (0.3, 0.25), (1.0, 0.0))
+    whole, new = slow_stage_travel(curve, 20.0, 14.0)
+    assert whole == pytest.approx(20.0)
+    assert [f for f, _ in new] == pytest.approx([f for f, _ in curve])
+    assert [x for _, x in new] == [x for _, x in curve]
+
+
+def staged_line(tmp_path, name, travel, stroke=20.0, extra=""):
+    """The test line with a staged ``travel`` (pairs of fraction and travel open) over
+    ``stroke`` [s], written as a file (so that ``check`` reads it like any other)."""
+    points = ", ".join(f"[{f!r}, {x * 100.0!r} %]" for f, x in travel)
+    text = LINE.format(extra=extra, travel=f", travel: [{points}]").replace(
+        "stroke: 20 s", f"stroke: {stroke!r} s"
+    )
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return load(str(path))
+
+
+def michaud_stroke(terminal, case_check):
+    """Michaud's fastest linear closure of the whole flow on the test line, 2 rho L V0 / dp [s]
+    (Michaud 1878; Thorley, Fluid Transients in Pipeline Systems, 2nd ed., 2004)."""
+    area = math.pi * 0.5**2 / 4.0
+    v0 = case_check.derived.steady.flow / area
+    return 2.0 * terminal.products["water"].density * LENGTH * v0 / DP_ALLOWED
+
+
+# The flow through the valve is proportional to its travel (see the module docstring), so a
+# staged travel is a velocity falling in two linear ramps. In this frictionless line the
+# water-hammer equations are linear, so the head at the valve is the sum of the responses to
+# the ramp of the fast stage and to the change of slope at its end. Under a linear velocity
+# ramp from steady flow, the head at the valve rises for 2L/a to Michaud's 2 L |dV/dt| / g and
+# falls back over the next 2L/a, a triangle of period 4L/a (from memory; Michaud 1878 is its
+# first peak). 2L/a = 2 s here.
+#  * fast stage 8 s (4 periods 2L/a, a zero of the fast stage's triangle): the two triangles
+#    rise together, the peak is Michaud's for the slow stage's slope alone, so the slow stage
+#    must last x_b T_M (T_M: Michaud's stroke for the whole flow);
+#  * fast stage 10 s (5 periods 2L/a, a peak of the fast stage's triangle): the triangles are
+#    out of step, the peak is the larger of the two, and the slow stage's extra slope alone must
+#    stay within Michaud's: x_b / v - (1 - x_b) / T_f <= 1 / T_M.
+STAGED = {
+    "in step": ((0.0, 1.0), (0.4, 0.4), (1.0, 0.0)),
+    "out of step": ((0.0, 1.0), (0.5, 0.5), (1.0, 0.0)),
+}
+
+
+@pytest.fixture(scope="module", params=sorted(STAGED))
+def slow_stage(request, tmp_path_factory):
+    travel = STAGED[request.param]
+    terminal = staged_line(tmp_path_factory.mktemp("slow"), "line.yaml", travel)
+    sw = stroke_window(terminal, terminal.cases[0], stage="slow")
+    return request.param, travel, terminal, sw
+
+
+def test_fastest_safe_slow_stage_agrees_with_michaud_superposed(slow_stage):
+    name, travel, terminal, sw = slow_stage
+    t_fast = travel[1][0] * 20.0
+    x_b = travel[1][1]
+    assert sw.stage == "slow" and sw.fast_stage == pytest.approx(t_fast)
+    assert sw.searched_file == pytest.approx(20.0 - t_fast)
+    t_m = michaud_stroke(terminal, sw.check)
+    if name == "in step":
+        expected = x_b * t_m
+    else:
+        expected = x_b / (1.0 / t_m + (1.0 - x_b) / t_fast)
+    # superposition of Michaud's ramps, as set out above STAGED (the 0.1 s lattice and the
+    # 1 % departure of the flow from the travel within 3 %, as for the whole stroke)
+    w = sw.nominal
+    assert w.stroke_min == pytest.approx(expected, rel=0.03)
+    assert w.min_breach.element == "test pipe"
+    # the whole stroke is the fast stage and the slow stage
+    assert sw.whole_stroke(w.stroke_min) == pytest.approx(t_fast + w.stroke_min)
+    assert w.recommended >= w.stroke_min * 1.2 - 1e-9
+
+
+def test_fastest_safe_slow_stage_passes_check_and_95_percent_fails(slow_stage, tmp_path):
+    _, travel, terminal, sw = slow_stage
+    v = sw.nominal.stroke_min
+    # the definition of the window (common practice, no source): a file with the fast stage
+    # as it was and the slow stage at the fastest safe duration passes `esdsurge check` ...
+    whole, curve = slow_stage_travel(travel, 20.0, v)
+    at = check(staged_line(tmp_path, "at.yaml", curve, whole)).cases[0]
+    assert at.limits_ok and at.verdict == "pass"
+    # ... and with the slow stage at 95 % of it a limit breaks
+    whole, curve = slow_stage_travel(travel, 20.0, 0.95 * v)
+    below = check(staged_line(tmp_path, "below.yaml", curve, whole)).cases[0]
+    assert not below.limits_ok
+    assert below.governing == "test pipe"
+
+
+def test_slow_stage_spill_limit_applies_to_the_whole_closure(tmp_path):
+    travel = STAGED["in step"]
+    terminal = staged_line(tmp_path, "line.yaml", travel, extra="    spill_limit: 0.3 m^3")
+    sw = stroke_window(terminal, terminal.cases[0], stage="slow")
+    w = sw.nominal
+    assert not w.empty and w.max_kind == "spill"
+    # the spill through the valve over the whole closure (fast stage included) is within the
+    # limit at the slowest allowed slow stage, and not 0.1 s later (common practice, no source)
+    spills = []
+    for v in (w.stroke_max, w.stroke_max + 0.1):
+        whole, curve = slow_stage_travel(travel, 20.0, v)
+        spills.append(check(staged_line(tmp_path, "s.yaml", curve, whole)).cases[0].spill)
+    assert spills[0] <= 0.3 < spills[1]
+
+
+def test_slow_stage_code_rule_counts_the_fast_stage(tmp_path):
+    travel = STAGED["in step"]
+    terminal = staged_line(tmp_path, "line.yaml", travel, extra="    max_closure_time: 15 s")
+    sw = stroke_window(terminal, terminal.cases[0], stage="slow")
+    w = sw.nominal
+    # trigger to shut within 15 s (the case's rule): 8 s of fast stage leave 7 s
+    assert w.max_kind == "code"
+    assert w.stroke_max == pytest.approx(7.0)
+    assert sw.whole_stroke(w.stroke_max) == pytest.approx(15.0)
+    assert "fast stage takes 8 s" in w.max_governed_by
+
+
+def test_slow_stage_without_stages_is_refused(michaud, tmp_path):
+    terminal, _ = michaud
+    with pytest.raises(UsageError, match="'linear closure'.*'end valve' has no staged travel"):
+        stroke_windows(terminal, stage="slow")
+    coupled = LINE.format(extra="", travel="").replace(
+        "    - valve: end valve",
+        "    - coupling: release coupling\n      closing_time: 5 s\n    - valve: end valve",
+    )
+    coupled = coupled.replace(
+        "{at: 0 s, close: end valve, stroke: 20 s}", "{at: 0 s, release: release coupling}"
+    )
+    path = tmp_path / "coupled.yaml"
+    path.write_text(coupled, encoding="utf-8")
+    with pytest.raises(UsageError, match="'release coupling' is a coupling .* 'release' event"):
+        stroke_windows(load(str(path)), stage="slow")
 
 
 def test_unknown_valve_is_refused(michaud):

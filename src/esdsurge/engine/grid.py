@@ -15,7 +15,8 @@ well inside the uncertainty of any wave speed, hoses most of all), taking the la
 ``dt`` under a cap on the nodes. No interpolation is used: interpolation damps the wave fronts
 that set the peaks. Resolution floors: at least ``ROUTE_REACHES`` reaches along the route, at
 least ``PROFILE_REACHES`` reaches on a line whose profile has an interior point (an arm's apex),
-and at least ``STROKE_STEPS`` steps over the shortest closure.
+and at least ``STROKE_STEPS`` steps over the shortest closure (each stage of a staged travel, a
+pump ramp-down and a relief valve's opening and closing times count as closures).
 
 Elevations. A node's elevation is the profile's at its chainage. Vapour cavities and the lowest
 pressure use the highest point of the node's cell (half a reach either side), the highest
@@ -542,6 +543,14 @@ def build_member(
     limit = float(travel.sum()) / ROUTE_REACHES
     strokes = dict(variant.strokes)
     closures = [_closure_time(route, ev, strokes) for ev in events]
+    # each stage of a staged travel is resolved like a closure of its own
+    closures += [
+        ev.stroke * (f1 - f0)
+        for ev in events
+        if isinstance(ev, Close)
+        for (f0, x0), (f1, x1) in zip(ev.travel, ev.travel[1:], strict=False)
+        if x1 != x0 and f1 > f0
+    ]
     closures += [ev.ramp_time for ev in events if isinstance(ev, Ramp)]
     for e in els:
         if isinstance(e, Relief) and e.name not in variant.without:

@@ -20,9 +20,23 @@ def _pct(x: float | None) -> str:
     return "—" if x is None else f"{x * 100:.0f} %"
 
 
-def _scan(points: tuple[Point, ...], w: Window, f: Fmt) -> Text:
-    """The sampled strokes on one line: ✓ keeps every limit, ✗ breaks one, ○ above the top."""
-    txt = Text("strokes run: ", style="dim")
+def _noun(sw: StrokeWindow) -> str:
+    """What the window is of: ``stroke``, or ``slow stage``."""
+    return "slow stage" if sw.stage == "slow" else "stroke"
+
+
+def _val(sw: StrokeWindow, v: float, f: Fmt, named: bool = True) -> str:
+    """A searched value: ``9.3 s``, or ``slow stage 9.3 s (whole stroke 15.3 s)`` (without
+    ``slow stage`` when not ``named``)."""
+    if sw.stage != "slow":
+        return f.time(v, 1)
+    text = f"{f.time(v, 1)} (whole stroke {f.time(sw.whole_stroke(v), 1)})"
+    return f"slow stage {text}" if named else text
+
+
+def _scan(points: tuple[Point, ...], w: Window, f: Fmt, noun: str = "stroke") -> Text:
+    """The sampled values on one line: ✓ keeps every limit, ✗ breaks one, ○ above the top."""
+    txt = Text(f"{noun}s run: ", style="dim")
     top = w.stroke_max
     for p in points:
         beyond = top is not None and p.value > top + 1e-9
@@ -37,7 +51,7 @@ def _window_lines(sw: StrokeWindow, w: Window, f: Fmt, label: str) -> list[Rende
     out: list[RenderableType] = []
     if w.empty:
         head = Text(f"{label}: ", style="bold")
-        head.append("NO SAFE STROKE", style="bold red reverse")
+        head.append(f"NO SAFE {_noun(sw).upper()}", style="bold red reverse")
         out.append(head)
         out.append(Text(f"  {w.reason}", style="red"))
         if w.opens:
@@ -47,17 +61,22 @@ def _window_lines(sw: StrokeWindow, w: Window, f: Fmt, label: str) -> list[Rende
     head = Text(f"{label}: ", style="bold")
     top = f.time(w.stroke_max, 1) if w.stroke_max is not None else "no upper limit set"
     head.append(f"{f.time(w.stroke_min, 1)} to {top}", style="bold green")
+    if sw.stage == "slow":
+        whole_top = (
+            f.time(sw.whole_stroke(w.stroke_max), 1) if w.stroke_max is not None else "no limit"
+        )
+        head.append(f" (whole stroke {f.time(sw.whole_stroke(w.stroke_min), 1)} to {whole_top})")
     out.append(head)
-    out.append(Text(f"  fastest safe {f.time(w.stroke_min, 1)} — set by {w.min_governed_by}"))
+    out.append(Text(f"  fastest safe {_val(sw, w.stroke_min, f)} — set by {w.min_governed_by}"))
     if w.stroke_max is not None:
         out.append(
-            Text(f"  slowest allowed {f.time(w.stroke_max, 1)} — set by {w.max_governed_by}")
+            Text(f"  slowest allowed {_val(sw, w.stroke_max, f)} — set by {w.max_governed_by}")
         )
     else:
         out.append(Text(f"  slowest allowed: {w.max_governed_by}"))
     if w.recommended is not None:
         line = Text("  recommended ", style="bold")
-        line.append(f"{f.time(w.recommended, 1)}", style="bold")
+        line.append(_val(sw, w.recommended, f), style="bold")
         line.append(f": {_pct(w.margin_fast)} longer than the fastest safe")
         if w.margin_slow is not None:
             line.append(f"; the slowest allowed is {_pct(w.margin_slow)} longer than it")
@@ -77,16 +96,23 @@ def case_view(sw: StrokeWindow, f: Fmt) -> RenderableType:
     ]
     what = Text()
     what.append(f"{sw.valve}", style="bold")
-    shape = ", staged travel kept in shape" if sw.staged else ""
+    if sw.stage == "slow":
+        shape = (
+            f": a fast stage of {f.time(sw.fast_stage, 1)} to {_pct(sw.fast_to)} open, kept as "
+            f"it is, then a slow stage of {f.time(sw.searched_file, 1)}, which is varied"
+        )
+    else:
+        shape = ", staged travel kept in shape" if sw.staged else ""
     what.append(
         f" ({sw.valve_kind}) starts to move {f.time(sw.at, 1)} after the trigger; its stroke in "
         f"the file is {f.time(sw.stroke_file, 1)}{shape}"
     )
     parts.append(what)
+    label = f"safe {_noun(sw)} window"
     if sw.problem is not None:
-        parts += _window_lines(sw, sw.nominal, f, "safe stroke window")
+        parts += _window_lines(sw, sw.nominal, f, label)
         return Group(*parts)
-    parts += _window_lines(sw, sw.nominal, f, "safe stroke window")
+    parts += _window_lines(sw, sw.nominal, f, label)
     if sw.spread is not None:
         parts += _window_lines(sw, sw.spread, f, "across the uncertainty band")
         parts.append(
@@ -98,7 +124,7 @@ def case_view(sw: StrokeWindow, f: Fmt) -> RenderableType:
     lead = sw.spread if sw.spread is not None and not sw.spread.empty else sw.nominal
     if lead.recommended is not None and sw.check is not None:
         cc = sw.check
-        line = Text(f"  at {f.time(lead.recommended, 1)}: ")
+        line = Text(f"  at {_val(sw, lead.recommended, f)}: ")
         gov = next((e for e in cc.elements if e.name == cc.governing), None)
         if gov is not None:
             lim = gov.limits
@@ -121,37 +147,37 @@ def case_view(sw: StrokeWindow, f: Fmt) -> RenderableType:
     if lead.recommended is not None and sw.effective_closure is not None:
         parts.append(
             Text(
-                f"  effective closure time at {f.time(lead.recommended, 1)}: "
+                f"  effective closure time at {_val(sw, lead.recommended, f)}: "
                 f"{f.time(sw.effective_closure, 1)} (installed characteristic, pumps running), "
                 f"against a pipeline period 2L/a of {f.time(sw.period, 2)} for the route",
                 style="dim",
             )
         )
     w = sw.nominal
+    noun = _noun(sw)
     if not w.empty and w.stroke_min is not None:
-        inside = w.stroke_min <= sw.stroke_file and (
-            w.stroke_max is None or sw.stroke_file <= w.stroke_max
-        )
+        own = sw.searched_file
+        inside = w.stroke_min <= own and (w.stroke_max is None or own <= w.stroke_max)
         note = "inside" if inside else "OUTSIDE"
         parts.append(
             Text(
-                f"  the file's stroke {f.time(sw.stroke_file, 1)} is {note} the window",
+                f"  the file's {noun} {_val(sw, own, f, named=False)} is {note} the window",
                 style="" if inside else "bold yellow",
             )
         )
     for x in w.worse:
-        parts.append(Text(f"  a longer stroke is worse: {x}", style="yellow"))
+        parts.append(Text(f"  a longer {noun} is worse: {x}", style="yellow"))
     if sw.spread is not None:
         for x in sw.spread.worse:
             if x not in w.worse:
                 parts.append(
-                    Text(f"  across the band, a longer stroke is worse: {x}", style="yellow")
+                    Text(f"  across the band, a longer {noun} is worse: {x}", style="yellow")
                 )
     if w.points:
-        parts.append(_scan(w.points, w, f))
+        parts.append(_scan(w.points, w, f, noun))
     parts.append(
         Text(
-            f"  {sw.runs} runs in {_passes(sw.passes)}, {sw.seconds:.1f} s; strokes on a 0.1 s "
+            f"  {sw.runs} runs in {_passes(sw.passes)}, {sw.seconds:.1f} s; {noun}s on a 0.1 s "
             "lattice, a limit that breaks only between two samples is not seen",
             style="dim",
         )
@@ -167,12 +193,13 @@ def stroke_view(res: StrokeResult, f: Fmt) -> RenderableType:
     parts += [case_view(sw, f) for sw in res.windows]
     n_empty = sum(1 for sw in res.windows if not sw.ok)
     summary = Text()
+    noun = "slow stage" if any(sw.stage == "slow" for sw in res.windows) else "stroke"
     if n_empty == 0:
         what = "the case has" if len(res.windows) == 1 else f"all {len(res.windows)} cases have"
-        summary.append(f"{what} a safe stroke window", style="bold green")
+        summary.append(f"{what} a safe {noun} window", style="bold green")
     else:
         summary.append(
-            f"{n_empty} of {len(res.windows)} cases have no safe stroke: "
+            f"{n_empty} of {len(res.windows)} cases have no safe {noun}: "
             + ", ".join(sw.case.name for sw in res.windows if not sw.ok),
             style="bold red",
         )
@@ -185,8 +212,11 @@ def _r(x: float | None, n: int = 3) -> float | None:
     return rounded(x, n)
 
 
-def window_json(w: Window) -> dict[str, Any]:
-    return {
+def window_json(w: Window, sw: StrokeWindow | None = None) -> dict[str, Any]:
+    """One window; with a searched slow stage (``sw.stage == "slow"``) the whole strokes are
+    given beside the slow-stage values (``whole_stroke_min_s``, ``whole_stroke_max_s``,
+    ``whole_recommended_s``, and ``whole_stroke_s`` in each sample)."""
+    out = {
         "stroke_min_s": _r(w.stroke_min, 2),
         "stroke_max_s": _r(w.stroke_max, 2),
         "min_governed_by": w.min_governed_by,
@@ -220,23 +250,35 @@ def window_json(w: Window) -> dict[str, Any]:
             for p in w.points
         ],
     }
+    if sw is not None and sw.stage == "slow":
+        out["whole_stroke_min_s"] = _r(sw.whole_stroke(w.stroke_min), 2)
+        out["whole_stroke_max_s"] = _r(sw.whole_stroke(w.stroke_max), 2)
+        out["whole_recommended_s"] = _r(sw.whole_stroke(w.recommended), 2)
+        for sample, p in zip(out["samples"], w.points, strict=True):
+            sample["whole_stroke_s"] = _r(sw.whole_stroke(p.value), 2)
+    return out
 
 
 def case_json(sw: StrokeWindow, atm: float) -> dict[str, Any]:
     entry: dict[str, Any] = {"name": sw.case.name, "valve": sw.valve}
-    entry.update(window_json(sw.nominal))
+    entry.update(window_json(sw.nominal, sw))
     entry.update(
         {
             "valve_kind": sw.valve_kind,
             "at_s": _r(sw.at, 3),
             "stroke_file_s": _r(sw.stroke_file, 3),
             "staged": sw.staged,
+            "stage": sw.stage,
             "effective_closure_s": _r(sw.effective_closure, 2),
             "period_s": _r(sw.period, 3),
             "problem": sw.problem,
             "engine": {"passes": sw.passes, "runs": sw.runs, "seconds": _r(sw.seconds, 2)},
         }
     )
+    if sw.stage == "slow":
+        entry["fast_stage_s"] = _r(sw.fast_stage, 3)
+        entry["fast_stage_to"] = _r(sw.fast_to, 4)
+        entry["slow_stage_file_s"] = _r(sw.searched_file, 3)
     if sw.check is not None:
         cc = sw.check
         entry["at_recommended"] = {
@@ -254,7 +296,7 @@ def case_json(sw: StrokeWindow, atm: float) -> dict[str, Any]:
             ],
         }
     if sw.spread is not None:
-        entry["spread"] = window_json(sw.spread)
+        entry["spread"] = window_json(sw.spread, sw)
         entry["spread"]["members"] = [m.label for m in sw.members]
     return entry
 

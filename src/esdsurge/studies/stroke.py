@@ -20,9 +20,12 @@ place where a longer stroke is worse is reported. A failing region narrower than
 the samples can still hide between them; the samples are listed with the result.
 
 A staged closure (a ``travel`` curve) keeps its shape: its points are fractions of the stroke,
-so scaling the stroke scales every stage. With ``--spread`` every sample runs every member of
-the uncertainty band (:mod:`esdsurge.studies.spread`) in the same pass; the window across the
-band is searched beside the nominal one.
+so scaling the stroke scales every stage. With ``stage="slow"`` (``--stage slow``) the searched
+value is the duration of the last stage of a staged closure instead: the stages before its last
+interior point (the fast stage) keep their durations and travel (:func:`slow_stage_travel`), the
+spill limit and ``max_closure_time`` still apply to the whole closure. With ``--spread`` every
+sample runs every member of the uncertainty band (:mod:`esdsurge.studies.spread`) in the same
+pass; the window across the band is searched beside the nominal one.
 """
 
 from __future__ import annotations
@@ -67,12 +70,19 @@ COARSE = 12
 MARGIN = 0.2
 #: most refinement passes
 MAX_PASSES = 30
+#: what ``stage`` may be: the whole stroke, or the last stage of a staged closure
+STAGES = ("whole", "slow")
 
 WHAT_OPENS = (
     "a staged closure: close most of the travel quickly and the last 15-30 % slowly (a "
     "'travel' curve on the close event)",
     "a lower transfer rate (see 'esdsurge rate')",
     "surge relief or an accumulator near the element that breaks its limit",
+)
+#: with a searched slow stage, in place of the staged closure that ``WHAT_OPENS`` starts with
+SLOW_OPENS = (
+    "another fast stage (the time or the travel of the 'travel' curve's last interior point), "
+    "or the stages scaled together ('esdsurge stroke --stage whole')",
 )
 
 
@@ -119,6 +129,10 @@ class StrokeWindow:
     passes, runs : engine passes and member runs used; seconds : wall time [s]; problem : why
     no window could be searched (no steady state, fails before surge), else ``None``;
     node_updates : grid nodes times time steps the engine ran for the search
+    stage : ``whole`` (the windows are whole strokes) or ``slow`` (the windows, the
+    recommendation and the samples are durations of the last stage of a staged closure);
+    fast_stage : with ``slow``, the fast stage's duration, kept as in the file [s] (else 0);
+    fast_to : with ``slow``, the travel open at the end of the fast stage [-] (else ``None``)
     """
 
     case: Case
@@ -139,11 +153,23 @@ class StrokeWindow:
     seconds: float
     problem: str | None = None
     node_updates: int = 0
+    stage: str = "whole"
+    fast_stage: float = 0.0
+    fast_to: float | None = None
 
     @property
     def ok(self) -> bool:
         """The window is not empty (across the band too, when one was searched)."""
         return not self.nominal.empty and (self.spread is None or not self.spread.empty)
+
+    @property
+    def searched_file(self) -> float:
+        """The searched value as the file sets it: the stroke, or the slow stage [s]."""
+        return self.stroke_file - self.fast_stage
+
+    def whole_stroke(self, value: float | None) -> float | None:
+        """The whole stroke at a searched ``value`` [s] (the fast stage and the slow stage)."""
+        return None if value is None else self.fast_stage + value
 
 
 @dataclass(frozen=True)
@@ -187,6 +213,77 @@ def stroke_of(terminal: Terminal, case: Case, event: Close | Release) -> float:
     return el.closing_time
 
 
+def fast_stage(travel: tuple[tuple[float, float], ...], stroke: float) -> float:
+    """Duration of the stages before the last interior point of a staged ``travel`` [s].
+
+    travel : points (fraction of stroke time [-], travel fraction open [-]) with at least one
+    point between (0, 1) and (1, 0); stroke : the stroke the fractions refer to [s]
+
+    >>> fast_stage(((0.0, 1.0), (0.3, 0.25), (1.0, 0.0)), 20.0)
+    6.0
+    """
+    if len(travel) < 3:
+        raise ValueError("a travel curve without an interior point has no stages")
+    return travel[-2][0] * stroke
+
+
+def slow_stage_travel(
+    travel: tuple[tuple[float, float], ...], stroke: float, slow: float
+) -> tuple[float, tuple[tuple[float, float], ...]]:
+    """Whole stroke and travel curve of a staged closure whose last stage lasts ``slow``.
+
+    The points up to the last interior one (the fast stage) keep their absolute times
+    ``f × stroke`` and their travel; the last stage is stretched or shrunk to ``slow``; the
+    curve ends shut at fraction 1 as before (common practice, no source: a staged actuator's
+    slow stage is set on its own, e.g. by a second throttle, without changing the first).
+
+    Parameters
+    ----------
+    travel : points (fraction of stroke time [-], travel fraction open [-]) from (0, 1) to
+        (1, 0) with at least one point between
+    stroke : the stroke the fractions of ``travel`` refer to [s]
+    slow : duration of the last stage [s] (> 0)
+
+    Returns
+    -------
+    whole : the whole stroke ``T_f + slow`` [s], ``T_f`` from :func:`fast_stage`
+    curve : the points ``(f × stroke / whole, travel)`` up to the last interior point, then
+        ``(1, 0)``
+
+    Examples
+    --------
+    Fast to 25 % open over 0.3 of a 20 s stroke (6 s), then slow for 14 s; with a slow stage
+    of 24 s the 6 s fast stage is 0.2 of a 30 s stroke:
+
+    >>> slow_stage_travel(((0.0, 1.0), (0.3, 0.25), (1.0, 0.0)), 20.0, 24.0)
+    (30.0, ((0.0, 1.0), (0.2, 0.25), (1.0, 0.0)))
+    """
+    if not slow > 0.0:
+        raise ValueError(f"the slow stage must last longer than 0 s, got {slow} s")
+    whole = fast_stage(travel, stroke) + slow
+    curve = tuple((f * stroke / whole, x) for f, x in travel[:-1]) + (travel[-1],)
+    return whole, curve
+
+
+def staged_event(terminal: Terminal, case: Case, event: Close | Release) -> Close:
+    """``event`` if its travel has stages (a point between open and shut), else a usage error
+    naming the file, the case and the element."""
+    where = f"--stage slow: in {terminal.path}, case {case.name!r}"
+    if isinstance(event, Release):
+        raise UsageError(
+            f"{where}: {event.element!r} is a coupling that closes on a 'release' event, which "
+            "has no stages; only a valve's 'close' event with a staged 'travel' curve has a slow "
+            "stage to search (use --stage whole)"
+        )
+    if len(event.travel) < 3:
+        raise UsageError(
+            f"{where}: the close event of {event.element!r} has no staged travel (a 'travel' "
+            "curve with a point between open and shut, e.g. travel: [[0, 100 %], [0.3, 25 %], "
+            "[1, 0 %]]); use --stage whole"
+        )
+    return event
+
+
 def effective_closure(
     terminal: Terminal, case: Case, event: Close | Release, stroke: float
 ) -> float:
@@ -226,8 +323,14 @@ def _window(
     spill_limit: float | None,
     code_top: float | None,
     max_closure: float | None,
+    noun: str = "stroke",
+    fast: float = 0.0,
 ) -> Window:
-    """The window a finished track describes (the recommended setting not yet chosen)."""
+    """The window a finished track describes (the recommended setting not yet chosen).
+
+    ``noun`` names the searched value (``stroke`` or ``slow stage``); ``fast`` is the fast
+    stage before a searched slow stage [s] (0 for the whole stroke).
+    """
     by = {p.value: p for p in points}
 
     def breach(v: float | None) -> tuple[str, Breach | None]:
@@ -242,16 +345,17 @@ def _window(
         if spill_limit is not None
         else ""
     )
+    fast_text = f", its fast stage takes {fast:g} s" if fast > 0.0 else ""
     code_text = (
         f"max_closure_time {max_closure:g} s from the trigger to shut ({valve} starts to move "
-        f"at {at:g} s)"
+        f"at {at:g} s{fast_text})"
         if max_closure is not None
         else ""
     )
     worse = tuple(worse_places(points, track.top))
     min_text, min_breach = breach(track.fast_fail)
     if not min_text and track.fast is not None:
-        min_text = f"nothing: every stroke scanned from {floor:g} s keeps the limits (scan floor)"
+        min_text = f"nothing: every {noun} scanned from {floor:g} s keeps the limits (scan floor)"
     candidates: list[tuple[float, str, str]] = []
     if code_top is not None:
         candidates.append((code_top, "code", code_text))
@@ -263,7 +367,7 @@ def _window(
             (
                 track.surge_top,
                 "surge",
-                f"a limit that breaks again at a longer stroke: at {track.surge_fail:g} s {what}",
+                f"a limit that breaks again at a longer {noun}: at {track.surge_fail:g} s {what}",
             )
         )
     reason, opens = None, ()
@@ -271,7 +375,7 @@ def _window(
     if track.spill_below_floor:
         first = points[0]
         reason = (
-            f"even the fastest stroke scanned, {first.value:g} s, lets "
+            f"even the fastest {noun} scanned, {first.value:g} s, lets "
             f"{first.spill or 0.0:.2f} m³ through {closing}: more than the {spill_text}"
         )
         opens = (
@@ -281,8 +385,8 @@ def _window(
         )
     elif code_top is not None and code_top < floor - 1e-9:
         reason = (
-            f"the {code_text} leaves {max(code_top, 0.0):.1f} s for the stroke, less than the "
-            f"fastest stroke scanned ({floor:g} s)"
+            f"the {code_text} leaves {max(code_top, 0.0):.1f} s for the {noun}, less than the "
+            f"fastest {noun} scanned ({floor:g} s)"
         )
         opens = ("a shorter delay before the valve moves (the case's 'at')",)
     elif track.no_pass or track.fast is None:
@@ -292,16 +396,18 @@ def _window(
         bound = min(candidates, key=lambda c: c[0]) if candidates else None
         if bound is None:
             reason = (
-                f"no stroke from {floor:g} s to {track.top:g} s (the scan's top) keeps every "
+                f"no {noun} from {floor:g} s to {track.top:g} s (the scan's top) keeps every "
                 f"limit: at {last:g} s {what}"
             )
         else:
             reason = (
-                f"no stroke from {floor:g} s to {bound[0]:g} s keeps every limit, and "
+                f"no {noun} from {floor:g} s to {bound[0]:g} s keeps every limit, and "
                 f"{bound[0]:g} s is the slowest allowed by the {bound[2]}: at {last:g} s {what}"
             )
         extra = ("a larger spill allowance, if the terminal can accept it",)
-        opens = WHAT_OPENS + (extra if bound is not None and bound[1] == "spill" else ())
+        opens = (WHAT_OPENS if fast <= 0.0 else SLOW_OPENS + WHAT_OPENS[1:]) + (
+            extra if bound is not None and bound[1] == "spill" else ()
+        )
     if reason is not None:
         return Window(
             None,
@@ -325,6 +431,9 @@ def _window(
         stroke_max, max_kind = None, "none"
         spill = by[track.top].spill if track.top in by else None
         max_text = f"none set (no spill_limit or max_closure_time); scanned up to {track.top:g} s"
+        if fast > 0.0:
+            max_text = max_text.replace("scanned", f"{noun}s scanned")
+            max_text += f" (whole stroke {fast + track.top:g} s)"
         if spill is not None:
             max_text += f", where {spill:.2f} m³ pass {closing}"
     return Window(
@@ -373,6 +482,7 @@ def stroke_window(
     top: float | None = None,
     coarse: int = COARSE,
     concurrent: bool = True,
+    stage: str = "whole",
 ) -> StrokeWindow:
     """The safe stroke window of ``case``'s first closing valve (or of ``valve``).
 
@@ -388,6 +498,11 @@ def stroke_window(
         ``DEFAULT_TOP``)
     coarse : fewest strokes in the coarse scan
     concurrent : run the batches of a pass on threads at the same time
+    stage : ``whole`` to vary the whole stroke (a staged travel scaled with it), or ``slow``
+        to vary the duration of the last stage of the valve's staged travel, its fast stage
+        kept (:func:`slow_stage_travel`); ``floor``, ``top`` and the window are then slow-stage
+        durations, and ``top`` defaults to ``DEFAULT_TOP`` less the fast stage (at least half
+        of ``DEFAULT_TOP``)
 
     Returns
     -------
@@ -397,14 +512,44 @@ def stroke_window(
     -----
     The coarse scan runs in two steps: its longer half first, its shorter half only when the
     window may reach into it (no failing stroke was found below a passing one). Strokes below
-    the longest failing stroke under the window are not explored.
+    the longest failing stroke under the window are not explored. The file's own stroke (or
+    slow stage) is always among the scanned values.
     """
     t_start = time.perf_counter()
+    if stage not in STAGES:
+        raise UsageError(f"--stage {stage!r}: use one of {', '.join(STAGES)}")
     event = closing_event(terminal, case, valve)
     route = terminal.routes[case.route]
     element = route.element(event.element)
     stroke_file = stroke_of(terminal, case, event)
     staged = isinstance(event, Close) and len(event.travel) > 2
+    slow = stage == "slow"
+    t_fast, fast_to = 0.0, None
+    if slow:
+        staged_close = staged_event(terminal, case, event)
+        t_fast = fast_stage(staged_close.travel, stroke_file)
+        fast_to = staged_close.travel[-2][1]
+
+    def setting(v: float) -> tuple[float, Close | Release]:
+        """The whole stroke [s] and the event at a searched value ``v`` [s]."""
+        if not slow:
+            return v, event
+        whole, curve = slow_stage_travel(staged_close.travel, stroke_file, v)
+        return whole, dataclasses.replace(staged_close, stroke=whole, travel=curve)
+
+    def changes(v: float) -> dict[str, object]:
+        """What a batch member at ``v`` changes (``Variant`` fields)."""
+        whole, ev_v = setting(v)
+        out: dict[str, object] = {"strokes": ((event.element, whole),)}
+        if slow:
+            assert isinstance(ev_v, Close)
+            out["travels"] = ((event.element, ev_v.travel),)
+        return out
+
+    def closure_time(v: float) -> float:
+        whole, ev_v = setting(v)
+        return effective_closure(terminal, case, ev_v, whole)
+
     first = first_closing_event(case)
     closing = first.element if first is not None else None
     band_members = (members or band(route)) if spread else (NOMINAL,)
@@ -414,9 +559,10 @@ def stroke_window(
     code_top = (
         None
         if case.max_closure_time is None
-        else on_lattice(case.max_closure_time - event.at, STEP, "down")
+        else on_lattice(case.max_closure_time - event.at - t_fast, STEP, "down")
     )
-    scan_top = code_top if code_top is not None else (top if top is not None else DEFAULT_TOP)
+    default_top = max(DEFAULT_TOP - t_fast, DEFAULT_TOP / 2.0)
+    scan_top = code_top if code_top is not None else (top if top is not None else default_top)
 
     def result(windows: list[Window], **kw: object) -> StrokeWindow:
         return StrokeWindow(
@@ -438,6 +584,9 @@ def stroke_window(
             seconds=time.perf_counter() - t_start,
             problem=kw.get("problem"),  # type: ignore[arg-type]
             node_updates=ev.node_updates,
+            stage=stage,
+            fast_stage=t_fast,
+            fast_to=fast_to,
         )
 
     base = ev.base
@@ -466,7 +615,7 @@ def stroke_window(
             for m in sorted(ms)
             if v not in samples or samples[v][m] is None or keep
         ]
-        variants = [band_members[m].variant(strokes=((event.element, v),)) for v, m in todo]
+        variants = [band_members[m].variant(**changes(v)) for v, m in todo]
         outs = ev.evaluate(variants, keep=keep) if variants else []
         for (v, m), out in zip(todo, outs, strict=True):
             samples.setdefault(v, [None] * len(band_members))[m] = out
@@ -478,8 +627,9 @@ def stroke_window(
         coarse_pts = geometric_lattice(floor, max(scan_top, floor), n, STEP)
         half = len(coarse_pts) // 2
         lower, upper = coarse_pts[:half], coarse_pts[half:]
-        # the file's own stroke is always run: a window around it must not hide between samples
-        own = on_lattice(stroke_file, STEP) if stroke_file is not None else None
+        # the file's own stroke (slow stage) is always run: a window around it must not hide
+        # between samples
+        own = on_lattice(stroke_file - t_fast, STEP)
         if own is not None and floor <= own <= scan_top and own not in coarse_pts:
             upper = sorted([*upper, own])
         run({v: set(all_members) for v in upper})
@@ -512,6 +662,8 @@ def stroke_window(
             spill_limit=case.spill_limit,
             code_top=code_top,
             max_closure=case.max_closure_time,
+            noun="slow stage" if slow else "stroke",
+            fast=t_fast,
         )
 
     windows = [finish(i) for i in range(len(tracks))]
@@ -526,7 +678,7 @@ def stroke_window(
         # run the recommended setting (every member; the nominal kept for the report) while
         # the effective closure time is worked out beside it
         with ThreadPoolExecutor(1) as pool:
-            future = pool.submit(effective_closure, terminal, case, event, rec)
+            future = pool.submit(closure_time, rec)
             outs = run({rec: set(all_members)}, keep=True)
             t_eff = future.result()
         check, checked_at = outs[0].check, rec
@@ -561,12 +713,15 @@ def stroke_window(
         assert w.stroke_min is not None
         if not (w.stroke_min <= rec and (w.stroke_max is None or rec <= w.stroke_max)):
             rec, mf, ms_ = _recommend(w, scan_top)
+        # the margins of this window's own ends (the setting may come from the band's window)
+        mf = rec / w.stroke_min - 1.0
+        ms_ = None if w.stroke_max is None else w.stroke_max / rec - 1.0
         windows[i] = dataclasses.replace(w, recommended=rec, margin_fast=mf, margin_slow=ms_)
         if i == lead or rec_final is None:
             rec_final = rec
     if rec_final is not None and rec_final != checked_at:
         with ThreadPoolExecutor(1) as pool:
-            future = pool.submit(effective_closure, terminal, case, event, rec_final)
+            future = pool.submit(closure_time, rec_final)
             check = run({rec_final: {0}}, keep=True)[0].check
             t_eff = future.result()
     elif rec_final is None:
@@ -580,18 +735,24 @@ def stroke_windows(
     *,
     valve: str | None = None,
     spread: bool = False,
+    stage: str = "whole",
     progress: Callable[[str], None] | None = None,
 ) -> StrokeResult:
-    """The stroke window of every case of ``terminal`` (or of those named)."""
+    """The stroke window of every case of ``terminal`` (or of those named); ``stage`` as for
+    :func:`stroke_window`."""
     out = []
     cases = [c for c in terminal.cases if case_names is None or c.name in case_names]
-    if valve is not None:
-        for c in cases:
-            closing_event(terminal, c, valve)  # refuse before any work
+    if stage not in STAGES:
+        raise UsageError(f"--stage {stage!r}: use one of {', '.join(STAGES)}")
+    if valve is not None or stage != "whole":
+        for c in cases:  # refuse before any work
+            event = closing_event(terminal, c, valve)
+            if stage == "slow":
+                staged_event(terminal, c, event)
     for c in cases:
         if progress:
             progress(c.name)
-        out.append(stroke_window(terminal, c, valve=valve, spread=spread))
+        out.append(stroke_window(terminal, c, valve=valve, spread=spread, stage=stage))
     return StrokeResult(terminal, tuple(out), spread)
 
 
