@@ -372,3 +372,41 @@ def test_a_missing_study_leaves_a_marked_place_and_its_items_not_assessed(
     assert html.count("NOT INCLUDED") >= 2
     data = json.loads((target / "results.json").read_text())
     assert data["stroke"] is None and data["rate"] is None
+
+
+RELIEF = """
+    - relief: berth surge relief
+      set_pressure: 6 barg
+      kv: {kv}
+      opening_time: 0.05 s
+      closing_time: 1 s
+      receiver_volume: {room}
+"""
+
+
+@pytest.mark.parametrize(
+    ("kv", "room", "capacity", "fits"),
+    [(4, "1 L", ACTION, ACTION), (400, "5 m^3", HOLDS, HOLDS)],
+)
+def test_relief_valve_items_follow_what_it_did(tmp_path, kv, room, capacity, fits):
+    # A relief valve beside the ESD valve that slams shut: a small one (kv 4) is driven
+    # fully open above its full-open pressure and overfills a 1 L relief tank; a large one
+    # (kv 400) is never asked for more than its full-open flow and its tank has room.
+    text = BERTH.replace(
+        "    - valve: berth ESD valve",
+        RELIEF.format(kv=kv, room=room) + "    - valve: berth ESD valve",
+    )
+    path = tmp_path / "berth.yaml"
+    path.write_text(text)
+    chk = check(loads(text, str(path)), [SLAM])
+    got = items(checklist(chk, None, None), "mitigation", SLAM)
+    branch = chk.cases[0].branches[0]
+    assert [i.status for i in got] == [capacity, fits]
+    assert got[0].numbers[0].value == branch.flow_max
+    assert got[1].numbers == (
+        type(got[1].numbers[0])("relieved", branch.volume, "volume"),
+        type(got[1].numbers[0])("room", branch.receiver_volume, "volume"),
+    )
+    assert branch.over_capacity is (capacity == ACTION)
+    if fits == ACTION:  # an overfilled relief tank fails the case
+        assert chk.cases[0].verdict == "fail"

@@ -27,7 +27,20 @@ from typing import Any
 
 import numpy as np
 
-from esdsurge.model import Arm, Case, Close, Coupling, Hose, Pipe, Pump, Release, Terminal, Trip
+from esdsurge.model import (
+    Accumulator,
+    Arm,
+    Case,
+    Close,
+    Coupling,
+    Hose,
+    Pipe,
+    Pump,
+    Release,
+    Relief,
+    Terminal,
+    Trip,
+)
 from esdsurge.model import Valve as _Valve
 from esdsurge.studies.check import (
     CAVITY_THRESHOLD,
@@ -66,6 +79,7 @@ TOPICS: dict[str, str] = {
     "limit": "pressure limit of each element, with margin",
     "separation": "no column separation",
     "spill": "volume let through within the spill limit",
+    "mitigation": "surge relief valves within their capacity and their relief tanks' room",
     "order": "ESD order: pumps stopped and valves shut before a release coupling parts",
     "code": "code closure-time rule",
     "site": "data to confirm on site",
@@ -263,6 +277,7 @@ def checklist(chk: CheckResult, stroke: Any | None, rate: Any | None) -> list[It
         *_limit_items(chk),
         *_separation_items(chk),
         *_spill_items(chk),
+        *_mitigation_items(chk),
         *_order_items(chk),
         *_code_items(chk),
         *_site_items(chk),
@@ -463,6 +478,38 @@ def _spill_items(chk: CheckResult) -> list[Item]:
     return out
 
 
+def _mitigation_items(chk: CheckResult) -> list[Item]:
+    out = []
+    for cc in chk.cases:
+        for b in cc.branches:
+            if b.kind != Relief.kind:
+                continue
+            claim = f"{b.name} passes what the surge asks within its capacity"
+            nums = (Num("peak flow", b.flow_max, "flow"), Num("capacity", b.capacity, "flow"))
+            if b.over_capacity:
+                status = ACTION
+                why = (
+                    "fully open with the pressure above its full-open pressure for "
+                    f"{b.time_over_capacity:.2g} s: a larger valve, or a slower closure"
+                )
+            else:
+                status, why = HOLDS, "never asked for more than its full-open flow"
+            out.append(Item("mitigation", claim, status, cc.case.name, b.name, nums, why))
+            if b.volume <= 0.0:
+                continue
+            claim = f"the relief tank of {b.name} takes the relieved volume"
+            nums = (Num("relieved", b.volume, "volume"),)
+            if b.receiver_volume is None:
+                status, why = NOT_ASSESSED, "no receiver_volume in the file"
+            else:
+                nums += (Num("room", b.receiver_volume, "volume"),)
+                status, why = (
+                    (HOLDS, "fits") if b.receiver_ok else (ACTION, "the relief tank overfills")
+                )
+            out.append(Item("mitigation", claim, status, cc.case.name, b.name, nums, why))
+    return out
+
+
 def shut_time(terminal: Terminal, case: Case, event: Close | Release) -> float:
     """When ``event``'s element is shut [s after the trigger]: its start plus its stroke (or the
     coupling's closing time)."""
@@ -589,11 +636,26 @@ def _site_items(chk: CheckResult) -> list[Item]:
             claim = f"{e.name}: inertia of pump and motor from the makers' data"
             why = "the run-down after a trip uses an estimated inertia"
             out.append(Item("site", claim, NOT_ASSESSED, None, e.name, (), why))
-    why = (
-        "esdsurge models no surge relief valve or accumulator: if one protects the line, confirm "
-        "its set point and capacity, and that these results (without it) are the ones relied on"
-    )
-    out.append(Item("site", "surge relief: set point and capacity", NOT_ASSESSED, why=why))
+        elif isinstance(e, Relief):
+            nums = (
+                Num("set pressure", e.set_pressure_gauge, "p_gauge_value"),
+                Num("fully open at", e.full_open_pressure_gauge, "p_gauge_value"),
+                Num("opening time", e.opening_time, "time"),
+            )
+            claim = f"{e.name}: set pressure, lift and opening time confirmed by test"
+            why = "bench or in-situ test certificate, in date, for the valve as installed"
+            out.append(Item("site", claim, NOT_ASSESSED, None, e.name, nums, why))
+        elif isinstance(e, Accumulator):
+            nums = (Num("pre-charge", e.precharge_abs, "p_abs"),)
+            claim = f"{e.name}: gas pre-charge checked before the transfer"
+            why = "the pre-charge sets how much the vessel takes in and gives back"
+            out.append(Item("site", claim, NOT_ASSESSED, None, e.name, nums, why))
+    if not any(isinstance(e, Relief | Accumulator) for e in _used_elements(chk)):
+        why = (
+            "the file has no surge relief valve or accumulator: if one protects the line, add "
+            "it to the route, or confirm that these results (without it) are the ones relied on"
+        )
+        out.append(Item("site", "surge relief: none in the file", NOT_ASSESSED, why=why))
     return out
 
 
@@ -637,6 +699,11 @@ NOTE_TEXT = {
     "scatter, so any column separation is taken as a finding, never as safe",
     "movement": "pipes, arm and hose held still: no fluid-structure interaction; supports and "
     "arm loads are outside this check",
+    "relief": "relief valve with a proportional lift between set and full-open pressure, "
+    "rate-limited by its opening and closing times; the losses of its relief line and the level "
+    "in its relief tank are not modelled",
+    "accumulator": "gas follows p V^n = const with the exponent shown; the pre-charge is brought "
+    "to the product temperature and compressed isothermally before the transfer",
 }
 
 
@@ -693,7 +760,12 @@ def _element_notes(chk: CheckResult) -> list[Note]:
                 out.append(Note("pump", e.name, NOTE_TEXT["inertia"]))
             if e.efficiency is None:
                 out.append(Note("pump", e.name, NOTE_TEXT["efficiency"]))
-        if e.kind not in ("tank", "pump") and e.limits.is_empty():
+        elif isinstance(e, Relief):
+            out.append(Note("mitigation", e.name, NOTE_TEXT["relief"]))
+        elif isinstance(e, Accumulator):
+            text = f"{NOTE_TEXT['accumulator']} (n = {e.exponent:g})"
+            out.append(Note("mitigation", e.name, text))
+        if e.kind not in ("tank", "pump", "relief", "accumulator") and e.limits.is_empty():
             out.append(Note("limit", e.name, NOTE_TEXT["no limit"]))
         if e.kind == "manifold":
             out.append(Note("limit", e.name, NOTE_TEXT["manifold"]))

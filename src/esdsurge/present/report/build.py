@@ -51,6 +51,7 @@ TOPIC_TITLES = {
     "valve": "Valve characteristics",
     "coupling": "Release couplings",
     "pump": "Pumps",
+    "mitigation": "Surge relief valves and accumulators",
     "limit": "Limits",
     "model": "The model",
 }
@@ -270,7 +271,37 @@ def _kind_text(e) -> str:
     if isinstance(e, Pump):
         n = f"{e.count} × " if e.count != 1 else ""
         return f"{n}pump" + (", check valve" if e.check_valve else "")
+    if e.kind == "relief":
+        return "surge relief valve"
     return e.kind
+
+
+def _branch_rows(cc: CaseCheck, f: Fmt) -> tuple[tuple[str, ...], ...]:
+    """What each relief valve and accumulator did in the case."""
+    rows = []
+    for b in cc.branches:
+        if b.kind == "relief" and b.state_max <= 0.0:
+            did = "did not open"
+        elif b.kind == "relief":
+            did = (
+                f"relieved {volume(f, b.volume)}; peak {f.flow(b.flow_max)} at "
+                f"{f.time(b.t_flow_max, 1)}; opened to {b.state_max * 100:.0f} %"
+            )
+            cap = f"capacity {f.flow(b.capacity)}" if b.capacity is not None else "—"
+            if b.over_capacity:
+                cap += f"; over it for {f.time(b.time_over_capacity, 2)}"
+            if b.receiver_volume is not None:
+                cap += f"; relief tank room {f.volume(b.receiver_volume)}"
+                cap += "" if b.receiver_ok else " — overfills"
+            rows.append((b.name, "surge relief valve", did, cap))
+        else:
+            intake = b.volume if abs(b.volume) >= 1e-6 else 0.0  # below 1 mL: round-off
+            did = (
+                f"gas {volume(f, b.state[0])} before, {volume(f, b.state_min)} to "
+                f"{volume(f, b.state_max)}; net intake {volume(f, intake)}"
+            )
+            rows.append((b.name, "accumulator", did, f"peak intake {f.flow(b.flow_max)}"))
+    return tuple(rows)
 
 
 # --- 5 products ------------------------------------------------------------------------------
@@ -629,6 +660,11 @@ def case_section(cc: CaseCheck, f: Fmt, figures: list[Figure]) -> Section:
         )
     for ln in lines:
         sec.add(Para(ln))
+    if cc.branches:
+        sec.add(
+            Heading("Surge relief valves and accumulators"),
+            Table(("element", "kind", "what it did", "against"), _branch_rows(cc, f)),
+        )
     for fig in figures:
         sec.add(fig)
     return sec
