@@ -89,6 +89,12 @@ def test_relief_valve_numbers_in_json_are_the_study_numbers(capsys, study):
     assert got["capacity_m3h"] == round(b.capacity * 3600, 3)
     assert got["time_over_capacity_s"] == 0.0 and got["over_capacity"] is False
     assert got["receiver_volume_m3"] == 2.0 and got["receiver_ok"] is True
+    # its history: every k-th sample of the study's series, at most 201 points
+    hist = got["history"]
+    k = -(-(len(b.time) - 1) // 200)
+    assert len(hist["time_s"]) == len(hist["flow_m3h"]) == len(hist["opening"]) <= 201
+    assert hist["opening"] == [round(float(x), 6) for x in b.state[::k]]
+    assert max(hist["opening"]) <= b.state_max
     # taken out, the relief valve passes nothing in the comparison
     bare = by_name(case["compare"]["branches"], RELIEF)
     assert bare["volume_m3"] == 0.0 and bare["opening_max"] == 0.0

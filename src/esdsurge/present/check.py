@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import numpy as np
@@ -541,7 +542,19 @@ def branch_json(b: BranchResult) -> dict[str, Any]:
             "flow_out_max_m3h": _r(b.flow_out_max * 3600, 3),
             "t_flow_out_max_s": _r(b.t_flow_out_max),
         }
+    # the history, every k-th sample of the run's series (at most HISTORY_POINTS + 1)
+    k = max(1, math.ceil((len(b.time) - 1) / HISTORY_POINTS))
+    state_key = "opening" if b.kind == "relief" else "gas_volume_m3"
+    entry["history"] = {
+        "time_s": [_r(float(t)) for t in b.time[::k]],
+        "flow_m3h": [_r(float(q) * 3600, 3) or 0.0 for q in b.flow[::k]],
+        state_key: [_r(float(x), 6) for x in b.state[::k]],
+    }
     return entry
+
+
+#: samples of a relief valve's or an accumulator's history in the JSON
+HISTORY_POINTS = 200
 
 
 def check_json(res: CheckResult) -> dict[str, Any]:
