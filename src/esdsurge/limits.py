@@ -14,11 +14,48 @@ from esdsurge.physics import flanges
 
 
 @dataclass(frozen=True)
+class Basis:
+    """What sets a limit, as numbers for the presenters (``esdsurge.present.fmt.Fmt.basis``
+    shows it in the unit system asked for); ``str()`` gives it in SI for logs and JSON.
+
+    what : the kind of limit, e.g. ``"design pressure"``, ``"ASME B16.5 class 150 (group
+        1.1)"``, ``"vapour pressure of gasoline"``, or ``"no pressure limit set"``
+    pressure : its value [Pa], gauge when ``gauge`` else absolute (``None``: no value)
+    allowance : a surge allowance on top of it [-]
+    temperature : the temperature a rating is taken at [K], or ``None``
+    note : words that follow the value, e.g. ``"(no column separation)"``
+    """
+
+    what: str
+    pressure: float | None = None
+    gauge: bool = True
+    allowance: float = 0.0
+    temperature: float | None = None
+    note: str = ""
+
+    def __str__(self) -> str:
+        if self.pressure is None:
+            return self.what
+        if self.gauge:
+            value = f"{self.pressure / 1e5:.1f} barg"
+        else:
+            digits = 3 if self.pressure < 1e5 else 2
+            value = f"{self.pressure / 1e5:.{digits}f} bara"
+        text = self.what
+        if self.temperature is not None:
+            text += f" at {self.temperature - 273.15:.0f} °C:"
+        text += f" {value}"
+        if self.allowance > 0.0:
+            text += f" + {self.allowance * 100:.0f} % surge allowance"
+        return text + (f" {self.note}" if self.note else "")
+
+
+@dataclass(frozen=True)
 class ResolvedLimits:
     """Limits of one element for one product.
 
     max_gauge : highest allowed pressure including surge [Pa gauge], or ``None`` when none is set
-    max_basis : what sets it (e.g. ``"design pressure 15.0 barg + 10 % surge allowance"``)
+    max_basis : what sets it (e.g. design pressure 15.0 barg + 10 % surge allowance)
     min_abs : lowest allowed pressure [Pa abs]
     min_basis : what sets it (vacuum rating or the product's vapour pressure)
     steady_max_gauge : highest allowed pressure at steady state (design pressure, or the
@@ -27,15 +64,11 @@ class ResolvedLimits:
     """
 
     max_gauge: float | None
-    max_basis: str
+    max_basis: Basis
     min_abs: float
-    min_basis: str
+    min_basis: Basis
     steady_max_gauge: float | None
     min_is_vapour: bool = True
-
-
-def _bar(p: float) -> str:
-    return f"{p / 1e5:.1f}"
 
 
 def resolve(element: Element, fluid: Fluid) -> ResolvedLimits:
@@ -49,45 +82,34 @@ def resolve(element: Element, fluid: Fluid) -> ResolvedLimits:
     one applies.
     """
     lim = element.limits
-    candidates: list[tuple[float, str, float]] = []  # (surge limit, basis, steady limit)
+    candidates: list[tuple[float, Basis, float]] = []  # (surge limit, basis, steady limit)
     if lim.design_pressure_gauge is not None:
         dp = lim.design_pressure_gauge
-        if lim.surge_allowance > 0.0:
-            basis = (
-                f"design pressure {_bar(dp)} barg + {lim.surge_allowance * 100:.0f} % "
-                "surge allowance"
-            )
-        else:
-            basis = f"design pressure {_bar(dp)} barg"
+        basis = Basis("design pressure", dp, allowance=lim.surge_allowance)
         candidates.append((dp * (1.0 + lim.surge_allowance), basis, dp))
     if lim.rated_working_pressure_gauge is not None:
         rwp = lim.rated_working_pressure_gauge
-        candidates.append((rwp, f"rated working pressure {_bar(rwp)} barg", rwp))
+        candidates.append((rwp, Basis("rated working pressure", rwp), rwp))
     if lim.flange_class is not None:
         rating = flanges.b16_5_rating_gauge(lim.flange_class, fluid.temperature)
-        t_c = fluid.temperature - 273.15
-        candidates.append(
-            (
-                rating,
-                f"ASME B16.5 class {lim.flange_class} (group 1.1) at {t_c:.0f} °C: "
-                f"{_bar(rating)} barg",
-                rating,
-            )
-        )
+        what = f"ASME B16.5 class {lim.flange_class} (group 1.1)"
+        candidates.append((rating, Basis(what, rating, temperature=fluid.temperature), rating))
     if candidates:
         best = min(candidates, key=lambda c: c[0])
         max_gauge, max_basis = best[0], best[1]
         steady_max = min(c[2] for c in candidates)
     else:
-        max_gauge, max_basis, steady_max = None, "no pressure limit set", None
+        max_gauge, max_basis, steady_max = None, Basis("no pressure limit set"), None
 
     pv = fluid.vapour_pressure_abs
     if lim.min_pressure_abs is not None and lim.min_pressure_abs > pv:
         min_abs = lim.min_pressure_abs
-        min_basis = f"minimum pressure {lim.min_pressure_abs / 1e5:.2f} bara"
+        min_basis = Basis("minimum pressure", min_abs, gauge=False)
     else:
         min_abs = pv
-        min_basis = f"vapour pressure of {fluid.name} {pv / 1e5:.3f} bara (no column separation)"
+        min_basis = Basis(
+            f"vapour pressure of {fluid.name}", pv, gauge=False, note="(no column separation)"
+        )
     return ResolvedLimits(
         max_gauge, max_basis, min_abs, min_basis, steady_max, min_is_vapour=min_abs == pv
     )

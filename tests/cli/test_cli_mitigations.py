@@ -267,3 +267,12 @@ def test_accumulator_block_and_json(capsys, tmp_path):
     code, _, _ = run(capsys, "check", p, "--case", FAST, "--plot", tmp_path / "fig")
     png = tmp_path / "fig" / "barge-shuts-its-manifold-valve-fast-on-methanol-mitigations.png"
     assert png.stat().st_size > 10_000
+
+
+def test_us_units_reach_the_words_that_name_a_limit(capsys):
+    # the governing line names what sets the hose's limit in the units asked for:
+    # 10 barg rated working pressure = 145 psig (1 psi = 6894.757 Pa, NIST SP 811)
+    _, out, _ = run(capsys, "check", BARGE, "--case", FAST, "--without", RELIEF, "--units", "us")
+    flat = " ".join(out.split())
+    assert "against rated working pressure 145 psig" in flat
+    assert not re.search(r"\d bar[ga]?\b", out)

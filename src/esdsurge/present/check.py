@@ -255,14 +255,14 @@ def _governing_line(cc: CaseCheck, f: Fmt) -> Text:
                 what += f" at {f.length(ev.x_cavity_max)}"
         else:
             what = f"lowest {f.p_abs(ev.p_min_abs)}"
-        txt.append(f"{what} against {ev.limits.min_basis}", style="bold red")
+        txt.append(f"{what} against {f.basis(ev.limits.min_basis)}", style="bold red")
     elif ev.limits.max_gauge is not None:
         txt.append(
-            f"highest {f.p_gauge(ev.p_max_abs)} against {ev.limits.max_basis}",
+            f"highest {f.p_gauge(ev.p_max_abs)} against {f.basis(ev.limits.max_basis)}",
             style="" if ev.ok_max else "bold red",
         )
     else:
-        txt.append(f"lowest {f.p_abs(ev.p_min_abs)} against {ev.limits.min_basis}")
+        txt.append(f"lowest {f.p_abs(ev.p_min_abs)} against {f.basis(ev.limits.min_basis)}")
     return txt
 
 
@@ -338,7 +338,7 @@ def case_view(cc: CaseCheck, f: Fmt) -> RenderableType:
             parts.append(
                 Text(
                     f"fails before any surge: {b.element} runs at {p} at steady state, "
-                    f"outside {b.basis}",
+                    f"outside {f.basis(b.basis)}",
                     style="bold red",
                 )
             )
@@ -471,9 +471,9 @@ def case_json(cc: CaseCheck, atm: float) -> dict[str, Any]:
                 "x_p_min_m": _r(ev.x_p_min, 2),
                 "cavity_max_m3": _r(ev.cavity_max, 6),
                 "limit_max_barg": _r(lim.max_gauge / 1e5) if lim.max_gauge is not None else None,
-                "limit_max_basis": lim.max_basis,
+                "limit_max_basis": str(lim.max_basis),
                 "limit_min_bara": _r(lim.min_abs / 1e5),
-                "limit_min_basis": lim.min_basis,
+                "limit_min_basis": str(lim.min_basis),
                 "margin_max_bar": _r(ev.margin_max / 1e5) if ev.margin_max is not None else None,
                 "ok": ev.ok,
             }
@@ -486,7 +486,7 @@ def case_json(cc: CaseCheck, atm: float) -> dict[str, Any]:
     entry["largest_cavity_m3"] = _r(cc.largest_cavity, 6)
     entry["largest_cavity_element"] = cc.largest_cavity_at
     entry["fails_before_surge"] = [
-        {"element": b.element, "limit": b.what, "basis": b.basis} for b in cc.derived.breaches
+        {"element": b.element, "limit": b.what, "basis": str(b.basis)} for b in cc.derived.breaches
     ]
     if cc.derived.hand is not None:
         h = cc.derived.hand

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from esdsurge.limits import Basis
+
 PSI = 6894.757293168  # [Pa] (NIST SP 811, exact from lbf/in^2)
 FOOT = 0.3048  # [m] exact
 US_GALLON = 3.785411784e-3  # [m^3] exact
@@ -139,3 +141,19 @@ class Fmt:
         if self.us:
             return f"{(t_k - 273.15) * 9 / 5 + 32:.0f} °F"
         return f"{t_k - 273.15:.0f} °C"
+
+    def basis(self, b: Basis) -> str:
+        """What sets a limit, with its pressure in these units."""
+        if b.pressure is None:
+            return b.what
+        if b.gauge:
+            value = self.p_gauge_value(b.pressure)
+        else:
+            value = self.p_abs(b.pressure, 3 if b.pressure < 1e5 else 2)
+        text = b.what
+        if b.temperature is not None:
+            text += f" at {self.temperature(b.temperature)}:"
+        text += f" {value}"
+        if b.allowance > 0.0:
+            text += f" + {b.allowance * 100:.0f} % surge allowance"
+        return text + (f" {b.note}" if b.note else "")

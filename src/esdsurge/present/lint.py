@@ -122,7 +122,7 @@ def _case_block(cd: CaseDerived, f: Fmt) -> Panel:
             Text(
                 f"FAILS BEFORE ANY SURGE: {b.element} at steady state "
                 f"{f.p_gauge(b.pressure_abs) if b.what == 'max' else f.p_abs(b.pressure_abs)} "
-                f"is {word} its limit ({b.basis})",
+                f"is {word} its limit ({f.basis(b.basis)})",
                 style="bold red",
             )
         )
@@ -238,7 +238,7 @@ def lint_json(d: Derived) -> dict[str, Any]:
                     "limit": b.what,
                     "pressure_bara": _r(b.pressure_abs / 1e5),
                     "limit_bara": _r(b.limit_abs / 1e5),
-                    "basis": b.basis,
+                    "basis": str(b.basis),
                 }
                 for b in cd.breaches
             ]

@@ -137,9 +137,9 @@ def case_view(sw: StrokeWindow, f: Fmt) -> RenderableType:
                 )
             )
             if by_max:
-                what = f"highest {f.p_gauge(gov.p_max_abs)} against {lim.max_basis}"
+                what = f"highest {f.p_gauge(gov.p_max_abs)} against {f.basis(lim.max_basis)}"
             else:
-                what = f"lowest {f.p_abs(gov.p_min_abs)} against {lim.min_basis}"
+                what = f"lowest {f.p_abs(gov.p_min_abs)} against {f.basis(lim.min_basis)}"
             line.append(f"least margin at {gov.name} ({gov.kind}), {what}")
         if cc.spill is not None:
             line.append(f"; {f.volume(cc.spill)} through {cc.closing}")
@@ -232,7 +232,7 @@ def window_json(w: Window, sw: StrokeWindow | None = None) -> dict[str, Any]:
             else {
                 "element": w.min_breach.element,
                 "limit": w.min_breach.what,
-                "basis": w.min_breach.basis,
+                "basis": str(w.min_breach.basis),
                 "member": w.min_breach.member,
             }
         ),

@@ -31,6 +31,7 @@ import numpy as np
 from esdsurge.engine import Run, Variant, simulate
 from esdsurge.engine.simulate import MIN_PERIODS, PERIODS_AFTER_EVENTS
 from esdsurge.errors import SteadyStateError
+from esdsurge.limits import Basis
 from esdsurge.lineup import sections
 from esdsurge.model import Case, Close, Coupling, Release, Terminal
 from esdsurge.studies.check import CAVITY_THRESHOLD, CaseCheck, judge
@@ -46,13 +47,13 @@ class Breach:
 
     element, kind : the element; what : ``highest pressure``, ``lowest pressure``, ``column
     separation``, ``steady state`` or ``no steady state``; basis : the limit as
-    ``limits.resolve`` words it; member : the band member's label
+    ``limits.resolve`` gives it (``""``: none); member : the band member's label
     """
 
     element: str
     kind: str
     what: str
-    basis: str
+    basis: Basis | str
     member: str
 
     def describe(self, with_member: bool = False) -> str:

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from esdsurge.errors import EsdsurgeError
-from esdsurge.limits import ResolvedLimits, resolve
+from esdsurge.limits import Basis, ResolvedLimits, resolve
 from esdsurge.lineup import LineData, sections
 from esdsurge.model import Case, Close, Fluid, G, Release, Route, Tank, Terminal
 from esdsurge.physics import handcalc
@@ -59,7 +59,7 @@ class SteadyBreach:
     what: str  # "max" or "min"
     pressure_abs: float  # [Pa]
     limit_abs: float  # [Pa]
-    basis: str
+    basis: Basis
 
 
 @dataclass(frozen=True)

@@ -139,15 +139,15 @@ def _governing_text(cc: CaseCheck, f: Fmt) -> str:
         if ev.cavity_max > 0.0 and ev.limits.min_is_vapour:
             return (
                 f"{ev.name}: column separation, vapour cavity "
-                f"{volume(f, ev.cavity_max)}, against the {ev.limits.min_basis}"
+                f"{volume(f, ev.cavity_max)}, against the {f.basis(ev.limits.min_basis)}"
             )
-        return f"{ev.name}: lowest {p_low(f, ev.p_min_abs)} against {ev.limits.min_basis}"
+        return f"{ev.name}: lowest {p_low(f, ev.p_min_abs)} against {f.basis(ev.limits.min_basis)}"
     if ev.limits.max_gauge is not None:
         return (
             f"{ev.name}: highest {f.p_gauge(ev.p_max_abs)} against "
-            f"{f.p_gauge_value(ev.limits.max_gauge)} ({ev.limits.max_basis})"
+            f"{f.p_gauge_value(ev.limits.max_gauge)} ({f.basis(ev.limits.max_basis)})"
         )
-    return f"{ev.name}: lowest {p_low(f, ev.p_min_abs)} against {ev.limits.min_basis}"
+    return f"{ev.name}: lowest {p_low(f, ev.p_min_abs)} against {f.basis(ev.limits.min_basis)}"
 
 
 def summary_section(res: ReportResult, f: Fmt) -> Section:
@@ -202,7 +202,7 @@ def _limit_cells(cd, name: str, f: Fmt) -> tuple[str, str]:
         return "—", "—"
     lim = cd.limits[name]
     top = (
-        f"{f.p_gauge_value(lim.max_gauge)}\n{lim.max_basis}"
+        f"{f.p_gauge_value(lim.max_gauge)}\n{f.basis(lim.max_basis)}"
         if lim.max_gauge is not None
         else "none set"
     )
@@ -613,7 +613,7 @@ def case_section(cc: CaseCheck, f: Fmt, figures: list[Figure]) -> Section:
             sec.add(
                 Para(
                     f"Fails before any surge: {b.element} runs at {p} at steady state, "
-                    f"outside {b.basis}.",
+                    f"outside {f.basis(b.basis)}.",
                     "missing",
                 )
             )
