@@ -85,6 +85,9 @@ class SteadyState:
     running : pump name -> units running
     pump_speeds : pump name -> speed ratio to rated (1 before the trigger)
     pump_heads : pump name -> head added by the station [m]
+    tank_heads : piezometric heads of the shore and carrier tanks as the route sees them [m]
+    tank_levels : the liquid levels they stand for [m]: a tank's surface, or, where the line
+        that fills the tank ends above its liquid (free outfall), the line's end
     """
 
     case: str
@@ -100,6 +103,8 @@ class SteadyState:
     pump_heads: dict[str, float]
     elements: tuple[ElementState, ...]
     lines: tuple[LineData, ...]
+    tank_heads: tuple[float, float] = (math.nan, math.nan)
+    tank_levels: tuple[float, float] = (math.nan, math.nan)
 
     def element(self, name: str) -> ElementState:
         for e in self.elements:
@@ -135,6 +140,20 @@ class _Balance:
                 "direction in a case"
             )
         self.direction = pushes.pop() if pushes else 0
+        # a line that ends above the liquid of the tank it fills falls freely into its gas
+        # space: its end is at the tank's gas pressure (free outfall, no drop tube modelled)
+        going = self.direction or (1 if self.h_shore >= self.h_carrier else -1)
+        self.levels = [first.surface, last.surface]
+        end = -1 if going > 0 else 0
+        z_end = self.lines[end].z_in
+        tank = last if going > 0 else first
+        if z_end > tank.surface:
+            self.levels[end] = z_end
+            head = z_end + (tank.gas_pressure_gauge + atmosphere_abs) / self.rho_g
+            if going > 0:
+                self.h_carrier = head
+            else:
+                self.h_shore = head
         self.blocked = [
             e.name for e in route.elements if isinstance(e, Pump) and self.running[e.name] == 0
         ]
@@ -342,6 +361,8 @@ def steady_state(
         pump_heads=pump_heads,
         elements=elements,
         lines=bal.lines,
+        tank_heads=(bal.h_shore, bal.h_carrier),
+        tank_levels=(bal.levels[0], bal.levels[1]),
     )
 
 
@@ -362,7 +383,7 @@ def _march(bal: _Balance, flow: float, changes: Sequence[float]) -> tuple[Elemen
         p_in = bal.rho_g * (h_in - ln.z_in)
         p_out = bal.rho_g * (h_out - ln.z_out)
         if isinstance(e, Tank):
-            p_in = p_out = bal.rho_g * (h_in - e.surface)
+            p_in = p_out = bal.rho_g * (h_in - bal.levels[0 if i == 0 else 1])
             ps = np.array([p_in])
             imin = imax = 0
         out.append(

@@ -160,11 +160,12 @@ def test_adelaide_rig_first_plateau(eng):
     route = Route(
         name="r",
         elements=(
-            Tank(name="tank 1", surface=head),
+            Tank(name="tank 1", surface=2.03 + head),
             copper,
             # the valve takes the head that the pipe does not lose (about 0.28 m of friction)
             eng.valve("ball valve", eng.flow_area_for(eng.area(d) * v0, head - 0.28), d),
-            Tank(name="tank 2", surface=0.0),
+            # the valve discharges into a tank whose liquid stands at the valve's level
+            Tank(name="tank 2", surface=2.03),
         ),
     )
     run = simulate(route, eng.WATER_15C, _close("ball valve", 0.009), duration=0.5)

@@ -180,3 +180,30 @@ def test_gravity_beyond_the_pump_run_out_still_finds_the_operating_point():
     # the balance is then 46.7 = k Q^2 - pump head (which is below zero past run-out)
     assert s.flow > 0.38
     assert 46.7 + (58.0 - 400.0 * s.flow**2) == pytest.approx(k * s.flow**2, rel=1e-6)
+
+
+def test_a_line_ending_above_the_liquid_it_fills_discharges_at_the_gas_pressure():
+    # Free outfall: the line ends 10 m up in the receiving tank's vapour space, above its
+    # liquid at 0 m, so the driving head is 30 m - 10 m = 20 m, not 30 m; Darcy-Weisbach,
+    # hf = f (L/D) V^2 / (2 g), gives the flow (White, Fluid Mechanics, 7th ed., eq. 6.10).
+    from esdsurge.engine import simulate
+
+    f, length, d = 0.02, 800.0, 0.2
+    route = Route(
+        name="r",
+        elements=(
+            Tank(name="upper", surface=30.0),
+            pipe("line", length, d, f=f, z0=0.0, z1=10.0),
+            Tank(name="lower", surface=0.0),
+        ),
+    )
+    case = Case(name="c", route="r", product="water", events=())
+    st = steady_state(route, WATER, case, ATM)
+    v = math.sqrt(20.0 * 2.0 * G / (f * length / d))
+    assert st.flow == pytest.approx(v * math.pi * d * d / 4.0, rel=1e-6)
+    assert st.tank_levels == (30.0, 10.0)
+    # the line's end is at the tank's gas pressure (atmospheric), not 10 m of suction
+    assert st.elements[1].p_out_abs == pytest.approx(ATM, abs=1e-2)
+    run = simulate(route, WATER, case, duration=1.0)
+    assert abs(run.initial_mismatch[0]) < 1e-6
+    assert run.p_max_abs[0, 2] == pytest.approx(ATM, rel=1e-9)

@@ -640,7 +640,8 @@ def build_member(
         point_z[c.first_point : c.first_point + len(c.devices) + 1] = zc
 
     # initial heads: walk the route with the engine's own relations
-    h = tank_head(els[0], rho_g, atmosphere_abs)
+    h_shore, h_carrier = route_tank_heads(route, steady, rho_g, atmosphere_abs)
+    h = h_shore
     h_init = np.empty(n_nodes)
     k = 0
     for c in lay.connections:
@@ -659,7 +660,7 @@ def build_member(
             s = starts[ln]
             h_init[s : s + n[ln] + 1] = h - np.arange(n[ln] + 1) * r_line[ln] * q0 * abs(q0)
             h = h_init[s + n[ln]]
-    mismatch = h - tank_head(els[-1], rho_g, atmosphere_abs)
+    mismatch = h - h_carrier
 
     # probes: two per element (shore end, carrier end)
     probe_ref = np.zeros(2 * len(els), dtype=np.int64)
@@ -705,6 +706,19 @@ def build_member(
 def tank_head(tank: Element, rho_g: float, atmosphere_abs: float) -> float:
     assert isinstance(tank, Tank)
     return tank.surface + (tank.gas_pressure_gauge + atmosphere_abs) / rho_g
+
+
+def route_tank_heads(
+    route: Route, steady: object, rho_g: float, atmosphere_abs: float
+) -> tuple[float, float]:
+    """Heads of the shore and carrier tanks [m] as the steady state sees them (a line ending
+    above the liquid of the tank it fills discharges at the tank's gas pressure at its end),
+    or from the tanks' surfaces when the steady state does not say."""
+    heads = getattr(steady, "tank_heads", None)
+    if heads is not None and all(math.isfinite(h) for h in heads):
+        return float(heads[0]), float(heads[1])
+    els = route.elements
+    return tank_head(els[0], rho_g, atmosphere_abs), tank_head(els[-1], rho_g, atmosphere_abs)
 
 
 def _device_head(

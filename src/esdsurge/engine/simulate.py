@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import dataclasses
 import itertools
+import math
 import os
 import threading
 import time
@@ -331,8 +332,7 @@ def _run(
     rho_g = fluid.density * G
     arrays = _pack(lay, members, duration)
     # tank heads: constant, the same for every member
-    h_shore = g.tank_head(els[0], rho_g, atmosphere_abs)
-    h_carrier = g.tank_head(els[-1], rho_g, atmosphere_abs)
+    h_shore, h_carrier = g.route_tank_heads(route, steadies[0], rho_g, atmosphere_abs)
     arrays["conn_tank_left"][0] = h_shore
     arrays["conn_tank_right"][-1] = h_carrier
     for i, pl in enumerate(lay.place):
@@ -497,10 +497,13 @@ def _unpack(
                     t_cav[b, i] = out["env_kv"][b, side[j]] * dt
                 zin = zout = zp
             else:
-                tank = els[i]
-                p = rho_g * (tank_heads[0 if i == 0 else 1] - tank.surface)
+                end = 0 if i == 0 else 1
+                level = getattr(steadies[b], "tank_levels", (math.nan, math.nan))[end]
+                if not math.isfinite(level):
+                    level = els[i].surface
+                p = rho_g * (tank_heads[end] - level)
                 p_max[b, i] = p_min[b, i] = p
-                zin = zout = tank.surface
+                zin = zout = level
             p_in[b, i] = rho_g * (ser_h[b, 2 * i] - zin)
             p_out[b, i] = rho_g * (ser_h[b, 2 * i + 1] - zout)
         stored = float(np.sum(m.storage * (out["h_end"][b, :nn] - m.h_init)))
