@@ -7,7 +7,7 @@ from types import SimpleNamespace
 
 import pytest
 
-from esdsurge.model import Fluid, G, Pipe, Route, Tank, Valve
+from esdsurge.model import Fluid, G, Pipe, Pump, Route, Tank, Valve
 
 #: Water at 20 degC: density, isentropic bulk modulus, vapour pressure and viscosity
 #: (CoolProp 8.0.0 values as listed in REFERENCES.md §3.1, rounded).
@@ -100,6 +100,27 @@ def tank_pipe_valve_tank(
     )
 
 
+def pumped_route(diameter: float = 0.3, check_valve: bool = True, sump: float = 5.0) -> Route:
+    """Tank -- one pump (fitted at 2980 rpm) -- 2000 m line -- valve -- upper tank at 40 m."""
+    return Route(
+        name="r",
+        elements=(
+            Tank(name="sump", surface=sump),
+            Pump(
+                name="pump",
+                curve=((0.0, 80.0), (0.1, 76.0), (0.2, 64.0), (0.25, 53.0)),
+                rated_speed=2980 * 2 * math.pi / 60,
+                inertia=1.6,
+                efficiency=0.8,
+                check_valve=check_valve,
+            ),
+            pipe("line", 2000.0, diameter, 1100.0, friction_factor=0.015),
+            valve("valve", 0.1, diameter),
+            Tank(name="lower tank", surface=40.0),
+        ),
+    )
+
+
 @pytest.fixture
 def eng() -> SimpleNamespace:
     """The builders above, for the test modules (run with ``--import-mode=importlib``)."""
@@ -111,4 +132,5 @@ def eng() -> SimpleNamespace:
         flow_area_for=flow_area_for,
         area=area,
         tank_pipe_valve_tank=tank_pipe_valve_tank,
+        pumped_route=pumped_route,
     )

@@ -139,24 +139,7 @@ def test_volume_through_a_closing_valve_is_the_integral_of_its_flow(eng):
 
 
 def _pump_route(eng, check_valve: bool = True) -> Route:
-    d = 0.3
-    return Route(
-        name="r",
-        elements=(
-            Tank(name="upper tank", surface=5.0),
-            Pump(
-                name="pump",
-                curve=((0.0, 80.0), (0.1, 76.0), (0.2, 64.0), (0.25, 53.0)),
-                rated_speed=2980 * 2 * math.pi / 60,
-                inertia=1.6,
-                efficiency=0.8,
-                check_valve=check_valve,
-            ),
-            eng.pipe("line", 2000.0, d, 1100.0, friction_factor=0.015),
-            eng.valve("valve", 0.1, d),
-            Tank(name="lower tank", surface=40.0),
-        ),
-    )
+    return eng.pumped_route(0.3, check_valve)
 
 
 def test_pump_trip_follows_the_analytic_rundown(eng):

@@ -18,7 +18,6 @@ from esdsurge.model import (
     Case,
     Close,
     G,
-    Pump,
     Ramp,
     Relief,
     Route,
@@ -264,23 +263,7 @@ def test_staged_closure_of_a_ball_valve_gives_a_lower_peak_than_linear(eng):
 
 
 def _pumped(eng) -> Route:
-    d = 0.25
-    return Route(
-        name="r",
-        elements=(
-            Tank(name="sump", surface=2.0),
-            Pump(
-                name="pump",
-                curve=((0.0, 80.0), (0.1, 76.0), (0.2, 64.0), (0.25, 53.0)),
-                rated_speed=2980 * 2 * math.pi / 60,
-                inertia=1.6,
-                efficiency=0.8,
-            ),
-            eng.pipe("line", 2000.0, d, 1100.0, friction_factor=0.015),
-            eng.valve("valve", 0.1, d),
-            Tank(name="upper tank", surface=40.0),
-        ),
-    )
+    return eng.pumped_route(0.25, sump=2.0)
 
 
 def test_pump_ramp_down_gives_a_smaller_down_surge_than_a_trip(eng):
