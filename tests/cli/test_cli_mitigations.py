@@ -169,7 +169,7 @@ def test_a_bad_name_exits_2_with_the_list_of_mitigations(capsys):
     assert RELIEF in err and "dock ESD valve" in err and "staged closure" in err
     assert "Traceback" not in err
     # a file without mitigations says so
-    code, _, err = run(capsys, "check", ROOT / "terminals" / "rail-rack.yaml", "--without", "x")
+    code, _, err = run(capsys, "check", ROOT / "terminals" / "jetty.yaml", "--without", "x")
     assert code == 2 and "mitigations: none" in err
 
 

@@ -216,11 +216,15 @@ def _accumulator_lines(b: BranchResult, f: Fmt) -> list[Text]:
         return f.small_volume(v, like=b.state_max)
 
     before = gas(float(b.state[0])) if len(b.state) else "—"
+    first = Text(
+        f"  {b.name} (accumulator): gas {before} before · {gas(b.state_min)} smallest · "
+        f"{gas(b.state_max)} largest"
+    )
+    if f.flow(b.flow_max) == f.flow(0.0) and f.flow(b.flow_out_max) == f.flow(0.0):
+        # nothing to show at the display's resolution: its pre-charge held it shut
+        return [first, Text("    took in and gave back no liquid that shows at this resolution")]
     return [
-        Text(
-            f"  {b.name} (accumulator): gas {before} before · {gas(b.state_min)} smallest · "
-            f"{gas(b.state_max)} largest"
-        ),
+        first,
         Text(
             f"    net volume taken in {gas(b.volume)} · peak flow in "
             f"{f.flow(b.flow_max)} at {f.time(b.t_flow_max, 1)}, out {f.flow(b.flow_out_max)} "
