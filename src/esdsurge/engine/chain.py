@@ -91,7 +91,7 @@ from .codes import (
 )
 
 
-@njit(cache=True, error_model="numpy", inline="always")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def device_dh(d, q, kind, work):
     """Head gained across device ``d`` in route direction at flow ``q`` [m]."""
     k = kind[d]
@@ -104,7 +104,7 @@ def device_dh(d, q, kind, work):
     return 0.0
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def _balance(q, cl, bl, cr, br, d0, d1, kind, work):
     """Head balance of a chain at flow ``q`` [m] and its slope [s/m^2]."""
     f = cl - bl * q - cr - br * q
@@ -124,7 +124,7 @@ def _balance(q, cl, bl, cr, br, d0, d1, kind, work):
     return f, df
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def solve_chain(qg, qscale, cl, bl, cr, br, d0, d1, kind, work):
     """Flow through a chain [m^3/s]: the root of its head balance.
 
@@ -153,7 +153,7 @@ def solve_chain(qg, qscale, cl, bl, cr, br, d0, d1, kind, work):
     return _newton(qg, qscale, cl, bl, cr, br, d0, d1, kind, work)
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def _newton(qg, qscale, cl, bl, cr, br, d0, d1, kind, work):
     """Root of a chain's head balance near the guess ``qg`` [m^3/s].
 
@@ -210,7 +210,7 @@ def _newton(qg, qscale, cl, bl, cr, br, d0, d1, kind, work):
     return q
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def update_devices(b, t, dt, g, kind, dev_par, tab_t, tab_a, tab_n, row, work):
     """Valve areas and pump speeds at time ``t`` [s] (``row``: each valve's table row; a time
     before the table's first row takes its first value, the open area)."""
@@ -248,7 +248,7 @@ def update_devices(b, t, dt, g, kind, dev_par, tab_t, tab_a, tab_n, row, work):
             work[W_B, d] = dev_par[b, d, P_H1] * s
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def _relief_opening(b, d, hs, dt, dev_par, work):
     """Opening of relief valve ``d`` at the end of a step with head ``hs`` at its point: the
     proportional lift, within what the valve can travel from its last opening in one step."""
@@ -260,7 +260,7 @@ def _relief_opening(b, d, hs, dt, dev_par, work):
     return min(max(target, lo), hi)
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def _accumulator_flow(b, d, hs, dt, dev_par, work):
     """Flow into accumulator ``d`` over the step [m^3/s] with head ``hs`` at its point."""
     c = dev_par[b, d, A_C]
@@ -293,7 +293,7 @@ def _accumulator_flow(b, d, hs, dt, dev_par, work):
     return q
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def branch_flow(b, s0, s1, hs, dt, g, kind, dev_par, work):
     """Flow into the branch devices ``s0 .. s1 - 1`` over a step ending at head ``hs``
     [m^3/s]; it rises with ``hs``."""
@@ -312,7 +312,7 @@ def branch_flow(b, s0, s1, hs, dt, g, kind, dev_par, work):
     return q
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def _sub_flow(b, qg, qscale, cl, bl, cr, br, d0, d1, kind, dev_par, work):
     """Flow through devices ``d0 .. d1 - 1`` between heads ``cl - bl Q`` and ``cr + br Q``,
     with shut valves and check valves holding [m^3/s]."""
@@ -327,7 +327,7 @@ def _sub_flow(b, qg, qscale, cl, bl, cr, br, d0, d1, kind, dev_par, work):
     return q
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def solve_split(b, ql_g, qr_g, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt, g, kind, dev_par,
                 work):  # fmt: skip
     """A chain with branch devices ``s0 .. s1 - 1``: the flows on its shore and carrier sides
@@ -405,7 +405,7 @@ def solve_split(b, ql_g, qr_g, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt, g, ki
     return q1, q2, h
 
 
-@njit(cache=True, error_model="numpy", inline="always")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def _split_residual(b, h, q1g, q2g, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt, g, kind,
                     dev_par, work):  # fmt: skip
     """``Q_1 - Q_2 - Q_s`` at branch head ``h``, with ``Q_1`` and ``Q_2``."""
@@ -414,7 +414,7 @@ def _split_residual(b, h, q1g, q2g, qscale, cl, bl, cr, br, c0, c1, s0, s1, dt, 
     return q1 - q2 - branch_flow(b, s0, s1, h, dt, g, kind, dev_par, work), q1, q2
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def settle_branches(b, s0, s1, hs, qs, dt, g, kind, dev_par, work):
     """Take the step: the branch devices at head ``hs`` share the flow ``qs`` that the chain
     gave them (so that no liquid is made or lost); accumulators move their gas volume."""
@@ -441,7 +441,7 @@ def settle_branches(b, s0, s1, hs, qs, dt, g, kind, dev_par, work):
                 work[W_SAT, d] += 1.0
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def _torque_step(b, d, dt, dev_par, work):
     """Speed ratio after one step of J dw/dt = -T (explicit Euler), from the last step's flow
     and head; the efficiency is ``eta_bep x (2 - x)`` below the best-efficiency flow ``x = 1``
@@ -462,7 +462,7 @@ def _torque_step(b, d, dt, dev_par, work):
     return s if s > 1e-9 else 0.0
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def chain_heads(b, c0, c1, qc, hl, hr, kind, dev_par, work, pth, p0):
     """Heads at the chain points ``p0 .. p0 + m`` of the devices ``c0 .. c1 - 1`` [m].
 
@@ -505,7 +505,7 @@ def chain_heads(b, c0, c1, qc, hl, hr, kind, dev_par, work, pth, p0):
         pth[p0 + i] = h
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def update_junction(u, dn, cpl, bpl, cmr, bmr, state, dt, cav_on):
     """Plain junction of nodes ``u`` and ``dn`` (one head, one cavity kept at ``u``); returns
     the flow arriving from the left [m^3/s] and the head [m]."""
@@ -535,7 +535,7 @@ def update_junction(u, dn, cpl, bpl, cmr, bmr, state, dt, cav_on):
     return qin, hh
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def update_chain(
     b, u, dn, cpl, bpl, cmr, bmr, tank_l, tank_r, c0, c1, s0, s1, qg, qg2, qscale, kind,
     dev_par, work, state, dt, g, cav_on,

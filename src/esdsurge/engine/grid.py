@@ -27,6 +27,7 @@ separation nor flattered.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -313,6 +314,26 @@ def choose_time_step(
     >>> round(dt, 4), n.tolist(), np.round(travel / (n * dt) - 1.0, 4).tolist()
     (0.0526, [19, 5], [0.0, -0.012])
     """
+    dt, n = _time_step(
+        tuple(float(x) for x in travel),
+        tuple(float(x) for x in min_reaches),
+        float(dt_max),
+        int(max_nodes),
+        float(tolerance),
+    )
+    return dt, np.array(n, dtype=np.int64)
+
+
+@functools.lru_cache(maxsize=256)
+def _time_step(
+    travel: tuple[float, ...],
+    min_reaches: tuple[float, ...],
+    dt_max: float,
+    max_nodes: int,
+    tolerance: float,
+) -> tuple[float, tuple[int, ...]]:
+    """:func:`choose_time_step`, remembered: the members of a search share their grid, and
+    the search over the candidates costs more than the rest of a member's set-up."""
     tr = np.asarray(travel, dtype=float)
     nmin = np.asarray(min_reaches, dtype=float)
     hi = min(dt_max, float(np.min(tr / nmin)))
@@ -333,7 +354,7 @@ def choose_time_step(
     err = np.max(np.abs(tr[None, :] / (n * c[:, None]) - 1.0), axis=1)
     ok = np.flatnonzero(err <= tolerance)
     k = ok[np.argmax(c[ok])] if ok.size else int(np.argmin(err - 1e-12 * c))
-    return float(c[k]), n[k].astype(np.int64)
+    return float(c[k]), tuple(int(x) for x in n[k])
 
 
 @dataclass
@@ -383,6 +404,20 @@ def _cell_extremes(
         low = np.where(inside, np.minimum(low, zi), low)
         high = np.where(inside, np.maximum(high, zi), high)
     return z, low, high
+
+
+@functools.lru_cache(maxsize=256)
+def _line_nodes(
+    profile: tuple[tuple[float, float], ...], n: int, dx: float, length: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Chainages of a line's ``n + 1`` nodes and their elevations (:func:`_cell_extremes`),
+    remembered (read-only arrays): the members of a search share their grid."""
+    xs = np.arange(n + 1) * dx
+    xs[-1] = length
+    out = (xs, *_cell_extremes(profile, xs, 0.5 * dx, length))
+    for arr in out:
+        arr.flags.writeable = False
+    return out
 
 
 def member_events(case: Case, variant: Variant) -> tuple[Event, ...]:
@@ -476,6 +511,26 @@ def valve_table(
             moves.append((ev.at, closing, ((0.0, 1.0), (1.0, 0.0))))
     if not moves:
         return np.array([0.0]), np.array([element.flow_area])
+    return _area_table(
+        float(element.flow_area),
+        tuple(tuple(p) for p in char),
+        tuple(
+            (float(at), float(stroke), tuple(tuple(p) for p in travel))
+            for at, stroke, travel in moves
+        ),
+        float(variant.characteristic_power),
+    )
+
+
+@functools.lru_cache(maxsize=256)
+def _area_table(
+    flow_area: float,
+    char: tuple[tuple[float, float], ...],
+    moves: tuple[tuple[float, float, tuple[tuple[float, float], ...]], ...],
+    power: float,
+) -> tuple[np.ndarray, np.ndarray]:
+    """The table of :func:`valve_table`, remembered (read-only arrays): the valves whose
+    stroke a search does not vary have the same table in every member."""
     times = []
     for at, stroke, travel in moves:
         if stroke > 0.0:
@@ -487,11 +542,14 @@ def valve_table(
     for at, stroke, travel in moves:
         travel_now = np.minimum(travel_now, valve_physics.travel_at(travel, stroke, t - at))
     phi = np.asarray(valve_physics.relative_flow(char, travel_now), dtype=float)
-    if variant.characteristic_power != 1.0:
-        phi = phi**variant.characteristic_power
-    area = element.flow_area * phi
+    if power != 1.0:
+        phi = phi**power
+    area = flow_area * phi
     # the first row holds the open area before the first move
-    return np.concatenate([[min(t[0], 0.0) - 1.0], t]), np.concatenate([[element.flow_area], area])
+    out = np.concatenate([[min(t[0], 0.0) - 1.0], t]), np.concatenate([[flow_area], area])
+    for arr in out:
+        arr.flags.writeable = False
+    return out
 
 
 def _scale(variant: Variant, line: LineData) -> float:
@@ -582,9 +640,9 @@ def build_member(
     x_route = np.empty(n_nodes)
     for ln, i in enumerate(lay.lines):
         s = starts[ln]
-        xs = np.arange(n[ln] + 1) * dx[ln]
-        xs[-1] = length[ln]
-        zz, lo, hi = _cell_extremes(lines[i].profile, xs, 0.5 * dx[ln], length[ln])
+        xs, zz, lo, hi = _line_nodes(
+            tuple(tuple(p) for p in lines[i].profile), int(n[ln]), float(dx[ln]), float(length[ln])
+        )
         sl = slice(s, s + n[ln] + 1)
         x[sl], z[sl], z_low[sl], z_high[sl] = xs, zz, lo, hi
         x_route[sl] = route_x0 + xs
@@ -737,6 +795,13 @@ def _device_head(
     return 0.0
 
 
+@functools.lru_cache(maxsize=64)
+def _fit_curve(curve: tuple[tuple[float, float], ...]) -> tuple[float, float, float]:
+    """:func:`esdsurge.physics.pumps.fit_curve`, remembered (it runs for every member)."""
+    h0, h1, h2 = pump_physics.fit_curve(curve)
+    return float(h0), float(h1), float(h2)
+
+
 def _pump_parameters(
     pump: Pump,
     fluid: Fluid,
@@ -748,7 +813,7 @@ def _pump_parameters(
 ) -> tuple[np.ndarray, float]:
     """Kernel parameters of a pump station and its run-down time constant (a ramp-down: the
     ramp time) [s]."""
-    h0, h1, h2 = pump_physics.fit_curve(pump.curve)
+    h0, h1, h2 = _fit_curve(tuple(tuple(p) for p in pump.curve))
     units = running.get(pump.name, pump.count)
     if units < 1:
         raise InputError([_problem(pump, "a stopped pump station blocks the line in this model")])

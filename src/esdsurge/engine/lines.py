@@ -6,7 +6,11 @@ J. Hydraul. Eng. 125(8) (1999), for the cavity volume with weighting psi = 1.
 
 Performance notes: every loop runs over slices of the line from a literal 1, so that numba
 need not guard against negative indices, and has no branches, so that LLVM vectorises it; the
-``error_model="numpy"`` drops the division-by-zero checks that would stop vectorisation.
+``error_model="numpy"`` drops the division-by-zero checks that would stop vectorisation. They
+are compiled without reference counting (``_nrt=False``: they allocate nothing, and each slice
+would otherwise cost an atomic increment and decrement), and the plain update is inlined into
+:func:`update_line`, since the call of a function that takes ten arrays costs about as much as
+updating a short line.
 """
 
 from __future__ import annotations
@@ -20,7 +24,7 @@ from .codes import ENVELOPE_SLACK
 NONE = 1 << 40
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def _plain(H0, U0, D0, H1, U1, D1, HV, VOL, HX, HN, m, bb, rr):
     """Water-hammer update of nodes 1 .. m - 1 of slices, without cavities.
 
@@ -55,7 +59,7 @@ def _plain(H0, U0, D0, H1, U1, D1, HV, VOL, HX, HN, m, bb, rr):
     return c0, c1, e0, e1
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def _cavitating(H0, U0, D0, H1, U1, D1, HV, VOL, m, bb, rr, dt):
     """Update of nodes 1 .. m - 1 of slices with discrete vapour cavities, branch-free.
 
@@ -95,7 +99,7 @@ def _cavitating(H0, U0, D0, H1, U1, D1, HV, VOL, m, bb, rr, dt):
     return ncav
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def _plain_part(h0, qu0, qd0, h1, qu1, qd1, hv, vol, hmax, hmin, st, i0, i1, bb, rr):
     """:func:`_plain` over nodes ``st + i0 .. st + i1`` (i0 >= 1); the node numbers returned
     count from ``st``, and an empty stretch is ``(NONE, -1)``."""
@@ -116,7 +120,7 @@ def _plain_part(h0, qu0, qd0, h1, qu1, qd1, hv, vol, hmax, hmin, st, i0, i1, bb,
     return c0 + off, c1 + off, e0 + off, e1 + off
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy")
 def update_line(state, envelope, st, nr, bb, rr, dt, n, cav_on, span):
     """Update the interior nodes ``st + 1 .. st + nr - 1`` of one line to step ``n``.
 
@@ -187,7 +191,7 @@ def update_line(state, envelope, st, nr, bb, rr, dt, n, cav_on, span):
                 KN[i] = n
 
 
-@njit(cache=True, error_model="numpy", inline="always")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def envelope_node(i, n, h, v, envelope):
     """Update node ``i``'s envelope with head ``h`` [m] and cavity volume ``v`` [m^3]."""
     hmax, kmax, hmin, kmin, vmax, kv = envelope
@@ -200,3 +204,12 @@ def envelope_node(i, n, h, v, envelope):
     if v > vmax[i]:
         vmax[i] = v
         kv[i] = n
+
+
+@njit(cache=True, _nrt=False, error_model="numpy")
+def update_lines(state, envelope, starts, reaches, bs, rs, dt, n, cav_on, spans):
+    """:func:`update_line` for every line of a member (one call per step: a call that passes
+    the state's arrays costs as much as the update of a short line)."""
+    for ln in range(starts.shape[0]):
+        update_line(state, envelope, starts[ln], reaches[ln], bs[ln], rs[ln], dt, n, cav_on,
+                    spans[ln])  # fmt: skip

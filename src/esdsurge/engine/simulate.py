@@ -289,6 +289,30 @@ def _pack(lay: g.Layout, members: list[g.Member], duration: float) -> dict:
     }
 
 
+#: the threads that run members, one per processor, started on first use and kept (starting
+#: threads for every batch costs about a millisecond, as much as a short run)
+_pool: ThreadPoolExecutor | None = None
+_pool_lock = threading.Lock()
+
+
+def _workers() -> ThreadPoolExecutor:
+    global _pool
+    with _pool_lock:
+        if _pool is None:
+            _pool = ThreadPoolExecutor(os.cpu_count() or 1, thread_name_prefix="esdsurge-engine")
+        return _pool
+
+
+def _forget_workers() -> None:
+    """In a forked child: the parent's threads are not there; start afresh."""
+    global _pool, _pool_lock
+    _pool = None
+    _pool_lock = threading.Lock()
+
+
+os.register_at_fork(after_in_child=_forget_workers)
+
+
 def _launch(run_members: Callable[..., int], nb: int, args: tuple) -> None:
     """Run members 0 .. nb - 1, in parallel on up to one thread per processor (the compiled
     loop releases the GIL); members are handed out one at a time."""
@@ -307,9 +331,9 @@ def _launch(run_members: Callable[..., int], nb: int, args: tuple) -> None:
                 return
             run_members(b, b + 1, *args)
 
-    with ThreadPoolExecutor(threads) as pool:
-        for f in [pool.submit(work) for _ in range(threads)]:
-            f.result()
+    pool = _workers()
+    for f in [pool.submit(work) for _ in range(threads)]:
+        f.result()
 
 
 def _run(

@@ -10,9 +10,11 @@ longest default duration of its members: ten pipeline periods, or the end of the
 plus five periods). A 60 s stroke needs about twice the time of a 5 s stroke, so one batch of
 mixed strokes runs the short ones twice as long as ``check`` would. :func:`duration_groups`
 therefore splits a request into at most a few batches of similar duration (the split that
-costs least), and the batches of one request run at the same time on threads (the compiled
-loop releases the GIL). Each member is judged over a simulated time at least as long as
-``check`` would use for it, so a member judged safe here is safe in ``check``.
+costs least; a batch of its own costs only its set-up, so a few strokes of a refinement step
+each run for their own time, as in ``check``), and the batches of one request run at the same
+time on threads (the compiled loop releases the GIL). Each member is judged over a simulated
+time at least as long as ``check`` would use for it, so a member judged safe here is safe in
+``check``. A search keeps the steady state of the case's rate from one pass to the next.
 
 Lattices. Searched values are kept on a lattice (0.1 s for strokes, 1 m^3/h for rates), so that
 every value a search reports was simulated, and is shown exactly as it was run.
@@ -33,12 +35,17 @@ from esdsurge.engine.simulate import MIN_PERIODS, PERIODS_AFTER_EVENTS
 from esdsurge.errors import SteadyStateError
 from esdsurge.limits import Basis
 from esdsurge.lineup import sections
-from esdsurge.model import Case, Close, Coupling, Release, Terminal
+from esdsurge.model import Case, Close, Coupling, Fluid, Release, Route, Terminal
+from esdsurge.steady import steady_state
 from esdsurge.studies.check import CAVITY_THRESHOLD, CaseCheck, judge
 from esdsurge.studies.derive import CaseDerived, derive_case, steady_breaches
 
 #: most batches one request is split into (by simulated time)
 MAX_GROUPS = 3
+#: what one more batch costs, in simulated time of one member [pipeline periods]: its Python
+#: set-up (steady state, grids, unpacking), a few milliseconds, about what two periods of one
+#: member take on the demo routes
+GROUP_COST_PERIODS = 2.0
 
 
 @dataclass(frozen=True)
@@ -179,8 +186,8 @@ def duration_groups(
     Returns
     -------
     list of lists of member indices; the cost of a batch is its size times its duration
-    (``MIN_PERIODS`` periods, or the last end plus ``PERIODS_AFTER_EVENTS`` periods), plus one
-    floor duration per extra batch (the set-up and the thread start of a pass).
+    (``MIN_PERIODS`` periods, or the last end plus ``PERIODS_AFTER_EVENTS`` periods), plus
+    ``GROUP_COST_PERIODS`` periods per extra batch (its set-up).
 
     Examples
     --------
@@ -193,6 +200,7 @@ def duration_groups(
     if not order:
         return []
     floor = MIN_PERIODS * period
+    extra = GROUP_COST_PERIODS * period
     dur = [max(floor, ends[i] + PERIODS_AFTER_EVENTS * period) for i in order]
     n = len(order)
     inf = math.inf
@@ -203,7 +211,7 @@ def duration_groups(
     for g in range(1, max_groups + 1):
         for j in range(1, n + 1):
             for i in range(g - 1, j):
-                c = best[g - 1][i] + (j - i) * dur[j - 1] + (floor if g > 1 else 0.0)
+                c = best[g - 1][i] + (j - i) * dur[j - 1] + (extra if g > 1 else 0.0)
                 if c < best[g][j]:
                     best[g][j], cut[g][j] = c, i
     g = min(range(1, max_groups + 1), key=lambda k: best[k][n])
@@ -242,6 +250,7 @@ class Evaluator:
         self.members = 0
         self.node_updates = 0
         self._impossible: dict[tuple, str] = {}
+        self._steadies: dict[float | None, object] = {}
 
     # -- what a variant does to the case's events --------------------------------------------
 
@@ -262,6 +271,18 @@ class Evaluator:
 
     # -- running ------------------------------------------------------------------------------
 
+    def _steady(
+        self, route: Route, fluid: Fluid, case: Case, atmosphere_abs: float, rate: float | None
+    ) -> object:
+        """:func:`esdsurge.steady.steady_state`, remembered by rate across the passes of a
+        search on the case's own route (a member that scales the friction brings its own
+        route, solved afresh)."""
+        if route is not self.route:
+            return steady_state(route, fluid, case, atmosphere_abs, rate=rate)
+        if rate not in self._steadies:
+            self._steadies[rate] = steady_state(route, fluid, case, atmosphere_abs, rate=rate)
+        return self._steadies[rate]
+
     def _simulate(self, variants: Sequence[Variant]) -> Run:
         return simulate(
             self.route,
@@ -269,6 +290,7 @@ class Evaluator:
             self.case,
             atmosphere_abs=self.atmosphere_abs,
             variants=variants,
+            steady=self._steady,
         )
 
     def _judge(self, run: Run, member: int, keep: bool) -> Outcome:
@@ -317,6 +339,7 @@ class Evaluator:
                 atmosphere_abs=self.atmosphere_abs,
                 variants=[v],
                 duration=1e-3,
+                steady=self._steady,
             )
         except SteadyStateError as exc:
             self._impossible[self._key(v)] = str(exc)
