@@ -210,7 +210,7 @@ def _newton(qg, qscale, cl, bl, cr, br, d0, d1, kind, work):
     return q
 
 
-@njit(cache=True, _nrt=False, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def update_devices(b, t, dt, g, kind, dev_par, tab_t, tab_a, tab_n, row, work):
     """Valve areas and pump speeds at time ``t`` [s] (``row``: each valve's table row; a time
     before the table's first row takes its first value, the open area)."""

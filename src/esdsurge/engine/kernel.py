@@ -104,7 +104,7 @@ def _work(b, g, kind, dev_par, tab_a, q_conn, conn_dev0, conn_dev1):
     return work
 
 
-@njit(cache=True, _nrt=False, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, q_conr, pth, qscale,
                  dt, g, cav_on):  # fmt: skip
     """Update every connection to step ``n`` (``n = 0``: the chain heads of the initial state

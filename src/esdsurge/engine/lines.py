@@ -206,7 +206,7 @@ def envelope_node(i, n, h, v, envelope):
         kv[i] = n
 
 
-@njit(cache=True, _nrt=False, error_model="numpy")
+@njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def update_lines(state, envelope, starts, reaches, bs, rs, dt, n, cav_on, spans):
     """:func:`update_line` for every line of a member (one call per step: a call that passes
     the state's arrays costs as much as the update of a short line)."""
