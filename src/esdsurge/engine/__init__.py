@@ -5,7 +5,7 @@
 this package compiles nothing.
 """
 
-from .run import Envelope, Run, Variant
+from .run import Envelope, Run, StopRule, Variant
 from .simulate import default_duration, simulate
 
-__all__ = ["Envelope", "Run", "Variant", "default_duration", "simulate"]
+__all__ = ["Envelope", "Run", "StopRule", "Variant", "default_duration", "simulate"]

@@ -71,6 +71,10 @@ RUNDOWN_RAMP = 2  # a variable-speed drive ramps the speed down linearly over P_
 #: a line's envelope pass is skipped while no node moves beyond it by more than this [m]
 #: (round-off in a standing state); the envelope is then within this of the true extreme
 ENVELOPE_SLACK = 1e-7
+#: a member stops (``run.StopRule``) only once a head is beyond its bound by more than this [m]
+STOP_SLACK = 1e-6
+#: steps between two looks at a member's bounds (``run.StopRule``)
+STOP_EVERY = 32
 
 # argument groups of kernel.run_members (tuples of arrays, in this order)
 MEMBERS = ("dt_all", "nsteps_all", "n_nodes_all", "qscale_all")
@@ -91,6 +95,9 @@ DEVICES = ("dev_kind", "dev_par", "tab_t", "tab_a", "tab_n", "pump_dev", "br_dev
 #: probe_side: a node's flow leaving it (0) or entering it (1); at a point or a tank, the
 #: connection's flow on the shore side (0) or the carrier side (1) of its branch devices
 PROBES = ("probe_kind", "probe_ref", "probe_side", "probe_conn", "probe_tank")
+#: per member: the first step at which it may stop (past the last step: never); per node and
+#: per point, the heads [m] and cavity volume [m^3] beyond which it stops (``run.StopRule``)
+STOPS = ("stop_step", "stop_hx", "stop_hn", "stop_v", "stop_px", "stop_pn")
 OUTPUTS = (
     "ser_h",
     "ser_q",
@@ -111,6 +118,7 @@ OUTPUTS = (
     "ser_bq",
     "ser_bs",
     "br_out",
+    "stopped",  # per member, the step at which it stopped (0: it ran to the end)
 )
 #: columns of br_out[member, branch, :]
 B_VOL, B_QMAX, B_KQMAX, B_SMIN, B_SMAX, B_SAT = range(6)

@@ -57,6 +57,8 @@ from .codes import (
     P_UNITS,
     PROBE_NODE,
     PROBE_POINT,
+    STOP_EVERY,
+    STOP_SLACK,
     W_A,
     W_B,
     W_C,
@@ -217,7 +219,7 @@ def _sample(ser, b, j, old, new, k, nsamp, sample_dt, t, t_old, dt, tol):
 
 
 @njit(cache=True, error_model="numpy")
-def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
+def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out):
     """The whole time loop of batch member ``b``: its state before the trigger here, the
     steps in :func:`_steps`."""
     dt_all, nsteps_all, n_nodes_all, qscale_all = members
@@ -290,14 +292,20 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out):
         ser_bs[b, j, 0] = bs[j]
         br_out[b, j, B_SMIN] = bs[j]
         br_out[b, j, B_SMAX] = bs[j]
-    _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, out, state, envelope,
-           spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq, bs)  # fmt: skip
+    _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out, state,
+           envelope, spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
+           bs)  # fmt: skip
 
 
 @njit(cache=True, _nrt=False, error_model="numpy")
-def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, out, state, envelope,
-           spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq, bs):  # fmt: skip
+def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out, state,
+           envelope, spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
+           bs):  # fmt: skip
     """The time steps of batch member ``b``, from the state :func:`_member` set up.
+
+    From step ``stop_step[b]`` on, every ``STOP_EVERY`` steps, the member stops once its
+    envelope is beyond one of its bounds (:func:`_broken`); the step goes to ``stopped[b]``
+    and the samples not reached are NaN.
 
     Compiled without reference counting (``_nrt=False``), like everything it calls: it
     allocates nothing, and the atomic reference counts of the arrays that pass through its
@@ -308,7 +316,8 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, out, s
     kind, dev_par, tab_t, tab_a, tab_n, pump_dev, br_dev = devices
     ser_h, ser_q, ser_s = out[0], out[1], out[2]
     pt_hmax, pt_kmax, pt_hmin, pt_kmin, vol_through, h_end, vol_end = out[9:16]
-    ser_bq, ser_bs, br_out = out[16:]
+    ser_bq, ser_bs, br_out, stopped = out[16:20]
+    stop_step = stops[0]
     h0, qu0, qd0, h1, qu1, qd1, hv, vol = state
     dt = dt_all[b]
     nn = n_nodes_all[b]
@@ -394,7 +403,22 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, out, s
         h0, h1 = h1, h0
         qu0, qu1 = qu1, qu0
         qd0, qd1 = qd1, qd0
+        if n >= stop_step[b] and (n - stop_step[b]) % STOP_EVERY == 0:
+            if _broken(b, nn, npts, envelope, pt_hmax, pt_hmin, stops):
+                stopped[b] = n
+                break
 
+    if stopped[b] > 0:
+        nan = np.nan
+        for k in range(next_sample, nsamp):
+            for p in range(nprobe):
+                ser_h[b, p, k] = nan
+                ser_q[b, p, k] = nan
+            for j in range(npump):
+                ser_s[b, j, k] = nan
+            for j in range(nbr):
+                ser_bq[b, j, k] = nan
+                ser_bs[b, j, k] = nan
     for i in range(nn):
         h_end[b, i] = h0[i]
         vol_end[b, i] = vol[i]
@@ -402,17 +426,46 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, out, s
         br_out[b, j, B_SAT] = work[W_SAT, br_dev[j]] * dt
 
 
+@njit(cache=True, _nrt=False, error_model="numpy")
+def _broken(b, nn, npts, envelope, pt_hmax, pt_hmin, stops):
+    """Member ``b``'s envelope is beyond one of its bounds by more than ``STOP_SLACK``: a
+    highest or lowest head at a node or a point, or a cavity at a node."""
+    hmax, hmin, vmax = envelope[0], envelope[2], envelope[4]
+    stop_hx, stop_hn, stop_v, stop_px, stop_pn = stops[1], stops[2], stops[3], stops[4], stops[5]
+    for i in range(nn):
+        if hmax[i] > stop_hx[b, i] + STOP_SLACK or hmin[i] < stop_hn[b, i] - STOP_SLACK:
+            return True
+        if vmax[i] > stop_v[b, i]:
+            return True
+    for p in range(npts):
+        if pt_hmax[b, p] > stop_px[b, p] + STOP_SLACK or pt_hmin[b, p] < stop_pn[b, p] - STOP_SLACK:
+            return True
+    return False
+
+
 @njit(cache=True, nogil=True, error_model="numpy")
-def run_members(b0, b1, cav_on, g, duration, members, grid, conns, devices, probes, out):
+def run_members(b0, b1, cav_on, g, duration, members, grid, conns, devices, probes, stops, out):
     """Run the time loops of batch members ``b0 .. b1 - 1``; the results go to ``out``.
 
     The argument groups are tuples of arrays named in :mod:`esdsurge.engine.codes`
-    (``MEMBERS``, ``GRID``, ``CONNECTIONS``, ``DEVICES``, ``PROBES``, ``OUTPUTS``). Releases
-    the GIL, so that members run in parallel on Python threads.
+    (``MEMBERS``, ``GRID``, ``CONNECTIONS``, ``DEVICES``, ``PROBES``, ``STOPS``,
+    ``OUTPUTS``). Releases the GIL, so that members run in parallel on Python threads.
     """
     for b in range(b0, b1):
-        _member(b, cav_on, g, duration, members, grid, conns, devices, probes, out)
+        _member(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out)
     return 0
+
+
+def no_stops(nb: int, nnode: int, npts: int, nsteps: np.ndarray) -> dict:
+    """Stop arrays (see ``codes.STOPS``) that never stop a member."""
+    return {
+        "stop_step": np.asarray(nsteps, dtype=np.int64) + 1,
+        "stop_hx": np.full((nb, nnode), np.inf),
+        "stop_hn": np.full((nb, nnode), -np.inf),
+        "stop_v": np.full((nb, nnode), np.inf),
+        "stop_px": np.full((nb, npts), np.inf),
+        "stop_pn": np.full((nb, npts), -np.inf),
+    }
 
 
 def empty_outputs(
@@ -440,6 +493,7 @@ def empty_outputs(
         "ser_bq": np.zeros((nb, nbranch, nsamp), f),
         "ser_bs": np.zeros((nb, nbranch, nsamp), f),
         "br_out": np.zeros((nb, nbranch, N_BR_OUT), f),
+        "stopped": np.zeros(nb, i),
     }
 
 

@@ -54,6 +54,42 @@ class Variant:
 
 
 @dataclass(frozen=True, kw_only=True)
+class StopRule:
+    """When a batch member may end before the run's duration: once it has broken a limit that
+    no later step can mend.
+
+    The highest pressure on an element only rises over a run, and its lowest pressure and
+    largest cavity only fall and grow, so a member beyond one of these bounds stays beyond it.
+    A search that only needs to know *that* such a member fails (not by how much) lets the
+    engine stop it and run the others on (:mod:`esdsurge.studies.batch`).
+
+    Attributes
+    ----------
+    max_abs : ``(element name, pressure [Pa abs])`` pairs: the member has failed once its
+        highest pressure on the element is above the pressure
+    min_abs : ``(element name, pressure [Pa abs])`` pairs: ... once its lowest pressure on the
+        element is below the pressure
+    no_cavity : names of elements on which a vapour cavity larger than ``cavity`` fails
+    cavity : [m^3]
+    after : per batch member, in the order of the variants, the time before which it may not
+        stop [s] (e.g. until the valve whose let-through volume is measured has shut, so that
+        the volume is whole)
+
+    The engine stops a member only when a head is beyond its bound by more than
+    ``engine.codes.STOP_SLACK`` (1e-6 m of liquid, a hundredth of a pascal), so that the same
+    comparison made afterwards on the member's figures is sure to find it beyond the bound.
+    The bounds are checked every ``engine.codes.STOP_EVERY`` steps. A stopped member's
+    figures (peaks, cavities, volumes, the series) cover the run up to ``Run.stopped`` only.
+    """
+
+    max_abs: tuple[tuple[str, float], ...] = ()
+    min_abs: tuple[tuple[str, float], ...] = ()
+    no_cavity: tuple[str, ...] = ()
+    cavity: float = 0.0
+    after: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True, kw_only=True)
 class Envelope:
     """Pressure envelope of one batch member along the route, one value per grid node.
 
@@ -124,7 +160,10 @@ class Run:
         for an accumulator)
     branch_time_over_capacity : time a relief valve spent fully open with the pressure above
         its full-open pressure, i.e. asked to pass more than its capacity [s]
-    node_updates : grid nodes times time steps, summed over the members [-]
+    stopped : when each member was stopped by the run's :class:`StopRule` [s] (NaN: it ran
+        for the whole duration); the figures of a stopped member cover the run up to then,
+        and its series are NaN after it
+    node_updates : grid nodes times time steps run, summed over the members [-]
     loop_seconds : wall time of the compiled time loop for the whole batch [s]
     steady : the steady state of each member (``esdsurge.steady.SteadyState``)
     """
@@ -174,6 +213,7 @@ class Run:
     branch_state_max: np.ndarray
     branch_capacity: np.ndarray
     branch_time_over_capacity: np.ndarray
+    stopped: np.ndarray
     node_updates: int
     loop_seconds: float
     steady: tuple[object, ...] = field(repr=False)

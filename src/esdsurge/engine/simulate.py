@@ -36,7 +36,7 @@ from esdsurge.physics import mitigations
 
 from . import codes
 from . import grid as g
-from .run import Envelope, Run, Variant
+from .run import Envelope, Run, StopRule, Variant
 
 #: default duration: at least this many pipeline periods (2 sum(L/a) over the route) ...
 MIN_PERIODS = 10.0
@@ -109,6 +109,7 @@ def simulate(
     tolerance: float = 0.02,
     samples: int = 2000,
     steady: Callable[..., object] | None = None,
+    stop: StopRule | None = None,
 ) -> Run:
     """Transient of a case after its trigger, for a batch of variants in one pass.
 
@@ -130,6 +131,8 @@ def simulate(
         linearly between time steps (the peaks are taken from every step, not from these)
     steady : steady-state function with the signature of ``esdsurge.steady.steady_state``;
         default that one
+    stop : when a member may end early, once it has broken a limit for good (a search that
+        needs only the verdict); default never
 
     Returns
     -------
@@ -194,6 +197,7 @@ def simulate(
         rundown,
         samples,
         atmosphere_abs,
+        stop,
     )
 
 
@@ -349,6 +353,7 @@ def _run(
     rundown: str,
     samples: int,
     atmosphere_abs: float,
+    stop: StopRule | None = None,
 ) -> Run:
     from . import kernel
 
@@ -380,6 +385,10 @@ def _run(
         len(branches),
     )  # fmt: skip
     arrays.update(out, pump_dev=pump_dev, br_dev=br_dev)
+    npts = max(lay.n_points, 1)
+    arrays.update(kernel.no_stops(len(members), nnode, npts, arrays["nsteps_all"]))
+    if stop is not None:
+        _stop_arrays(route, lay, members, stop, rho_g, arrays)
     args = (bool(cavities), G, float(duration)) + tuple(
         tuple(arrays[k] for k in group)
         for group in (
@@ -388,13 +397,15 @@ def _run(
             codes.CONNECTIONS,
             codes.DEVICES,
             codes.PROBES,
+            codes.STOPS,
             codes.OUTPUTS,
         )
     )
     t0 = time.perf_counter()
     _launch(kernel.run_members, len(members), args)
     loop_seconds = time.perf_counter() - t0
-    updates = int(np.sum(arrays["n_nodes_all"] * arrays["nsteps_all"]))
+    ran = np.where(out["stopped"] > 0, out["stopped"], arrays["nsteps_all"])
+    updates = int(np.sum(arrays["n_nodes_all"] * ran))
     return _unpack(
         route,
         fluid,
@@ -415,6 +426,53 @@ def _run(
         updates,
         loop_seconds,
     )
+
+
+def _stop_arrays(
+    route: Route, lay: g.Layout, members: list[g.Member], stop: StopRule, rho_g: float, arrays: dict
+) -> None:
+    """Fill the kernel's stop arrays (``codes.STOPS``) from ``stop``: each element's pressure
+    bounds as heads at its nodes (a line: the lowest point of a node's cell for the highest
+    pressure, its highest point for the lowest, as the figures are taken) or at its points
+    (a point element), its cavity bound at its nodes (a point element: the nodes beside it)."""
+    names = [e.name for e in route.elements]
+    p_max = dict(stop.max_abs)
+    p_min = dict(stop.min_abs)
+    unknown = sorted((set(p_max) | set(p_min) | set(stop.no_cavity)) - set(names))
+    if unknown:
+        raise ValueError(f"stop rule: no element named {', '.join(map(repr, unknown))}")
+    if len(stop.after) != len(members):
+        raise ValueError(f"stop rule: {len(stop.after)} times for {len(members)} batch members")
+    for b, m in enumerate(members):
+        arrays["stop_step"][b] = max(int(math.ceil(stop.after[b] / m.dt - 1e-9)), 1)
+        for i, pl in enumerate(lay.place):
+            name = names[i]
+            if pl[0] == "line":
+                ln = pl[1]
+                s = m.line_start[ln]
+                sl = slice(s, s + m.reaches[ln] + 1)
+                if name in p_max:
+                    arrays["stop_hx"][b, sl] = m.z_low[sl] + p_max[name] / rho_g
+                if name in p_min:
+                    arrays["stop_hn"][b, sl] = m.z_high[sl] + p_min[name] / rho_g
+                if name in stop.no_cavity:
+                    arrays["stop_v"][b, sl] = np.minimum(arrays["stop_v"][b, sl], stop.cavity)
+            elif pl[0] == "device":
+                c = lay.connections[pl[1]]
+                pts = slice(c.first_point + pl[2], c.first_point + pl[2] + pl[3] + 1)
+                zp = m.point_z[c.first_point + pl[2]]
+                if name in p_max:
+                    arrays["stop_px"][b, pts] = zp + p_max[name] / rho_g
+                if name in p_min:
+                    arrays["stop_pn"][b, pts] = zp + p_min[name] / rho_g
+                if name in stop.no_cavity:
+                    side = []
+                    if c.left >= 0:
+                        side.append(m.line_start[c.left] + m.reaches[c.left])
+                    if c.right >= 0:
+                        side.append(m.line_start[c.right])
+                    for k in side:
+                        arrays["stop_v"][b, k] = min(arrays["stop_v"][b, k], stop.cavity)
 
 
 def _unpack(
@@ -592,6 +650,7 @@ def _unpack(
         branch_state_max=br[:, :, codes.B_SMAX].copy(),
         branch_capacity=capacity,
         branch_time_over_capacity=br[:, :, codes.B_SAT].copy(),
+        stopped=np.where(out["stopped"] > 0, out["stopped"] * dts, np.nan),
         node_updates=updates,
         loop_seconds=loop_seconds,
         steady=tuple(steadies),

@@ -246,6 +246,7 @@ def window_json(w: Window, sw: StrokeWindow | None = None) -> dict[str, Any]:
                 "spill_m3": _r(p.spill, 4),
                 "peak_ratio": _r(p.peak_ratio, 4),
                 "cavity_m3": _r(p.cavity, 6),
+                "stopped_early": p.partial,
             }
             for p in w.points
         ],

@@ -16,6 +16,17 @@ time on threads (the compiled loop releases the GIL). Each member is judged over
 time at least as long as ``check`` would use for it, so a member judged safe here is safe in
 ``check``. A search keeps the steady state of the case's rate from one pass to the next.
 
+Early stop. A search needs to know that a member fails, not by how much: a member whose
+highest pressure has passed a surge limit, whose lowest has passed a minimum, or that holds a
+counted vapour cavity fails whatever happens later (the extremes of a run only widen), so the
+engine stops it (:meth:`Evaluator.stop_rule`, ``engine.StopRule``), though not before the
+case's first closing element has shut, so that its spill is whole. About half of the members
+of a stroke search fail; they stop at about the end of their closure instead of five periods
+after it. The verdict and the spill of a stopped member are those of the whole run; its peaks
+and cavities (``Outcome.measures``), which place the next samples, are those reached when it
+stopped, and a stroke search does not compare them with its neighbours' (``Point.partial``).
+Runs kept whole (``keep``, e.g. the recommended setting) are never stopped.
+
 Lattices. Searched values are kept on a lattice (0.1 s for strokes, 1 m^3/h for rates), so that
 every value a search reports was simulated, and is shown exactly as it was run.
 """
@@ -30,15 +41,25 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from esdsurge.engine import Run, Variant, simulate
+from esdsurge.engine import Run, StopRule, Variant, simulate
 from esdsurge.engine.simulate import MIN_PERIODS, PERIODS_AFTER_EVENTS
 from esdsurge.errors import SteadyStateError
 from esdsurge.limits import Basis
 from esdsurge.lineup import sections
 from esdsurge.model import Case, Close, Coupling, Fluid, Release, Route, Terminal
 from esdsurge.steady import steady_state
-from esdsurge.studies.check import CAVITY_THRESHOLD, CaseCheck, judge
-from esdsurge.studies.derive import CaseDerived, derive_case, steady_breaches
+from esdsurge.studies.check import (
+    CAVITY_THRESHOLD,
+    MIN_PRESSURE_TOLERANCE,
+    CaseCheck,
+    judge,
+)
+from esdsurge.studies.derive import (
+    CaseDerived,
+    derive_case,
+    first_closing_event,
+    steady_breaches,
+)
 
 #: most batches one request is split into (by simulated time)
 MAX_GROUPS = 3
@@ -91,6 +112,9 @@ class Outcome:
     breaches : what is broken
     duration : simulated time [s]
     flow : steady flow before the trigger [m^3/s] (signed)
+    stopped : when the engine stopped the member, a limit being broken for good [s] (``None``:
+        it ran for the whole duration); the spill and the verdict are whole, the peaks,
+        cavities and ``measures`` those reached by then
     check : the full verdict, kept only when asked for
     """
 
@@ -106,6 +130,7 @@ class Outcome:
     flow: float | None
     measures: tuple[tuple[str, float, float, float], ...] = ()
     problem: str | None = None
+    stopped: float | None = None
     check: CaseCheck | None = None
 
 
@@ -136,6 +161,7 @@ def summarise(cc: CaseCheck, atmosphere_abs: float, label: str, duration: float)
             )
             breaches.append(Breach(ev.name, ev.kind, what, lim.min_basis, label))
     steady = cc.derived.steady
+    stopped = float(cc.run.stopped[cc.member]) if cc.run is not None else math.nan
     if cc.spill_ok is False:
         breaches.append(
             Breach(cc.closing or "", "", "spill", f"spill limit {cc.case.spill_limit:g} m³", label)
@@ -152,6 +178,7 @@ def summarise(cc: CaseCheck, atmosphere_abs: float, label: str, duration: float)
         duration=duration,
         flow=steady.flow if steady is not None else None,
         measures=tuple(measures),
+        stopped=None if math.isnan(stopped) else stopped,
     )
 
 
@@ -283,7 +310,35 @@ class Evaluator:
             self._steadies[rate] = steady_state(route, fluid, case, atmosphere_abs, rate=rate)
         return self._steadies[rate]
 
-    def _simulate(self, variants: Sequence[Variant]) -> Run:
+    def shut_time(self, variant: Variant) -> float:
+        """When the case's first closing element is shut with ``variant``'s strokes [s] (0
+        when it closes nothing): from then on no more spill passes it."""
+        first = first_closing_event(self.case)
+        if first is None:
+            return 0.0
+        strokes = dict(variant.strokes)
+        if isinstance(first, Close):
+            return first.at + strokes.get(first.element, first.stroke * variant.stroke_scale)
+        el = self.route.element(first.element)
+        assert isinstance(el, Coupling)
+        return first.at + strokes.get(el.name, el.closing_time)
+
+    def stop_rule(self, variants: Sequence[Variant]) -> StopRule:
+        """The bounds beyond which a member fails whatever follows, as ``judge`` sees them: the
+        surge limit (gauge, on the site's atmosphere), the minimum less the check's tolerance,
+        a counted cavity where the minimum is the vapour pressure; not before the first
+        closing element has shut, so that its spill is whole."""
+        atm = self.atmosphere_abs
+        lims = self.limits.items()
+        return StopRule(
+            max_abs=tuple((n, atm + lim.max_gauge) for n, lim in lims if lim.max_gauge is not None),
+            min_abs=tuple((n, lim.min_abs - MIN_PRESSURE_TOLERANCE) for n, lim in lims),
+            no_cavity=tuple(n for n, lim in lims if lim.min_is_vapour),
+            cavity=CAVITY_THRESHOLD,
+            after=tuple(self.shut_time(v) for v in variants),
+        )
+
+    def _simulate(self, variants: Sequence[Variant], stop: bool = False) -> Run:
         return simulate(
             self.route,
             self.fluid,
@@ -291,6 +346,7 @@ class Evaluator:
             atmosphere_abs=self.atmosphere_abs,
             variants=variants,
             steady=self._steady,
+            stop=self.stop_rule(variants) if stop else None,
         )
 
     def _judge(self, run: Run, member: int, keep: bool) -> Outcome:
@@ -309,9 +365,10 @@ class Evaluator:
         return dataclasses.replace(out, check=cc) if keep else out
 
     def _run_group(self, variants: list[Variant], keep: bool) -> list[Outcome]:
-        """Run one batch; members found to have no steady state are left out (and noted)."""
+        """Run one batch; members found to have no steady state are left out (and noted).
+        Without ``keep``, a member that has broken a limit for good is stopped early."""
         try:
-            run = self._simulate(variants)
+            run = self._simulate(variants, stop=not keep)
         except SteadyStateError:
             for v in {self._key(v): v for v in variants}.values():
                 self._probe(v)
@@ -508,7 +565,9 @@ class Point:
     largest over the members [m^3]; peak_ratio : highest pressure over its limit [-]; cavity :
     largest counted vapour cavity [m^3]; breaches : what the members break; measures : per
     element, the largest over the members of ``(peak over limit - 1, shortfall below the
-    minimum [atm], cavity [m^3])`` (see :class:`Outcome`)
+    minimum [atm], cavity [m^3])`` (see :class:`Outcome`); partial : a member was stopped
+    early (a limit broken for good), so ``peak_ratio``, ``cavity`` and ``measures`` are those
+    reached by then: at least, not at most
     """
 
     value: float
@@ -520,6 +579,7 @@ class Point:
     measures: dict[str, tuple[float, float, float]] = dataclasses.field(
         default_factory=dict, compare=False, repr=False
     )
+    partial: bool = False
 
 
 def points_of(
@@ -559,6 +619,7 @@ def points_of(
                 cavity=max((o.cavity for o in runs), default=0.0),
                 breaches=() if ok_ else tuple(b for o in runs for b in o.breaches),
                 measures=measures,
+                partial=any(o.stopped is not None for o in runs),
             )
         )
     return out

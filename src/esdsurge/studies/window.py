@@ -185,7 +185,9 @@ def worse_places(points: list[Point], top: float) -> list[str]:
     """Places where a longer stroke is worse than a shorter one, up to ``top``: a limit that a
     shorter stroke keeps and a longer one breaks, a vapour cavity that appears, or a highest
     pressure that rises by more than ``WORSE_RATIO`` of its limit (neighbouring samples that
-    rise are taken together)."""
+    rise are taken together). Peaks and cavities are compared only where the shorter stroke
+    ran whole, and rises only between strokes that both did (a stopped member's figures are
+    those reached when it stopped, :class:`~esdsurge.studies.batch.Point`)."""
     out: list[str] = []
     pts = [p for p in points if p.value <= top + 1e-9]
     rise: list[Point] = []
@@ -204,14 +206,15 @@ def worse_places(points: list[Point], top: float) -> list[str]:
             flush()
             what = q.breaches[0].describe() if q.breaches else "a limit breaks"
             out.append(f"{p.value:g} s keeps every limit but {q.value:g} s does not: {what}")
-        elif p.cavity <= CAVITY_THRESHOLD < q.cavity:
+        elif not p.partial and p.cavity <= CAVITY_THRESHOLD < q.cavity:
             flush()
             out.append(
                 f"a vapour cavity ({q.cavity:.2g} m³) appears at {q.value:g} s that "
                 f"{p.value:g} s does not form"
             )
         elif (
-            not math.isnan(p.peak_ratio)
+            not (p.partial or q.partial)
+            and not math.isnan(p.peak_ratio)
             and not math.isnan(q.peak_ratio)
             and q.peak_ratio - p.peak_ratio > WORSE_RATIO
         ):
