@@ -530,7 +530,16 @@ def _area_table(
     power: float,
 ) -> tuple[np.ndarray, np.ndarray]:
     """The table of :func:`valve_table`, remembered (read-only arrays): the valves whose
-    stroke a search does not vary have the same table in every member."""
+    stroke a search does not vary have the same table in every member. A single move is the
+    table of :func:`_unit_table` stretched to its stroke (a search varies the stroke)."""
+    if len(moves) == 1 and moves[0][1] > 0.0:
+        at, stroke, travel = moves[0]
+        frac, phi = _unit_table(char, travel, power)
+        t = np.concatenate([[min(at, 0.0) - 1.0, np.nextafter(at, -np.inf)], at + stroke * frac])
+        out = t, flow_area * phi
+        for arr in out:
+            arr.flags.writeable = False
+        return out
     times = []
     for at, stroke, travel in moves:
         if stroke > 0.0:
@@ -550,6 +559,21 @@ def _area_table(
     for arr in out:
         arr.flags.writeable = False
     return out
+
+
+@functools.lru_cache(maxsize=64)
+def _unit_table(
+    char: tuple[tuple[float, float], ...], travel: tuple[tuple[float, float], ...], power: float
+) -> tuple[np.ndarray, np.ndarray]:
+    """Relative flow coefficient of one move against the fraction of its stroke: the
+    fractions (``TABLE_SAMPLES`` evenly, and the travel curve's points) and the coefficients,
+    led by two open rows (before the table, and just before the move starts)."""
+    frac = np.union1d(np.linspace(0.0, 1.0, TABLE_SAMPLES), [p[0] for p in travel])
+    x = np.concatenate([[1.0, 1.0], np.asarray(valve_physics.travel_at(travel, 1.0, frac))])
+    phi = np.asarray(valve_physics.relative_flow(char, x), dtype=float)
+    if power != 1.0:
+        phi = phi**power
+    return frac, phi
 
 
 def _scale(variant: Variant, line: LineData) -> float:
