@@ -9,7 +9,7 @@ from esdsurge.cli import main
 
 ROOT = Path(__file__).resolve().parents[2]
 
-# Frictionless single pipe, explicit wave speed, valve shut in 5 ms (<< 2L/a = 2 s): the rise at
+# Frictionless single pipe, explicit wave speed, valve shut in 50 ms (<< 2L/a = 2 s): the rise at
 # the valve is the Joukowsky rise rho a V0. Both tanks stand under 35 barg of gas so that the
 # down-surge that follows stays above the vapour pressure.
 INSTANT = """
@@ -47,7 +47,7 @@ cases:
     route: line
     product: water
     events:
-      - {{at: 0 s, close: end valve, stroke: 0.005 s}}
+      - {{at: 0 s, close: end valve, stroke: 0.05 s}}
     duration: 3 s
 """
 
