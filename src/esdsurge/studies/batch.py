@@ -25,7 +25,8 @@ of a stroke search fail; they stop at about the end of their closure instead of 
 after it. The verdict and the spill of a stopped member are those of the whole run; its peaks
 and cavities (``Outcome.measures``), which place the next samples, are those reached when it
 stopped, and a stroke search does not compare them with its neighbours' (``Point.partial``).
-Runs kept whole (``keep``, e.g. the recommended setting) are never stopped.
+Runs kept whole (``keep``, e.g. the recommended setting) are never stopped. A run judged only
+for its verdict keeps two samples per series (``VERDICT_SAMPLES``): the searches use none.
 
 Lattices. Searched values are kept on a lattice (0.1 s for strokes, 1 m^3/h for rates), so that
 every value a search reports was simulated, and is shown exactly as it was run.
@@ -61,6 +62,10 @@ from esdsurge.studies.derive import (
     steady_breaches,
 )
 
+#: samples per series of a run judged only for its verdict: the searches use none of the series
+#: (the extremes and volumes are taken at every step), and 2000 samples of every element end
+#: cost more to allocate and unpack than a short run's time loop
+VERDICT_SAMPLES = 2
 #: most batches one request is split into (by simulated time)
 MAX_GROUPS = 3
 #: what one more batch costs, in simulated time of one member [pipeline periods]: its Python
@@ -339,6 +344,11 @@ class Evaluator:
         )
 
     def _simulate(self, variants: Sequence[Variant], stop: bool = False) -> Run:
+        """Run ``variants``; with ``stop``, judged only for the verdict: failing members stop
+        early and the series keep ``VERDICT_SAMPLES`` samples."""
+        extra: dict[str, object] = {}
+        if stop:
+            extra = {"stop": self.stop_rule(variants), "samples": VERDICT_SAMPLES}
         return simulate(
             self.route,
             self.fluid,
@@ -346,7 +356,7 @@ class Evaluator:
             atmosphere_abs=self.atmosphere_abs,
             variants=variants,
             steady=self._steady,
-            stop=self.stop_rule(variants) if stop else None,
+            **extra,  # type: ignore[arg-type]
         )
 
     def _judge(self, run: Run, member: int, keep: bool) -> Outcome:
