@@ -7,11 +7,13 @@ Prints, and asserts nothing:
 * the first-call compile time, measured in a fresh process with numba's cache in an empty
   temporary directory, so that it is real;
 * the wall time of every case of every ``terminals/*.yaml`` (skipped with a note when a file
-  cannot be read).
+  cannot be read);
+* the wall time of the full stroke window of every case of the jetty demo, the fastest of
+  three searches (``esdsurge.studies.stroke.bench_jetty_windows``).
 
 With ``--json`` it prints one object: ``{"node_updates_per_s": {"1": ..., "16": ..., "64": ...},
-"compile_s": ..., "cases": {"<file>:<case>": <wall s>}}`` (plus the end-to-end figures under
-``"node_updates_per_s_simulate"``).
+"compile_s": ..., "cases": {"<file>:<case>": <wall s>}, "stroke_windows_jetty": {...}}`` (plus
+the end-to-end figures under ``"node_updates_per_s_simulate"``).
 """
 
 from __future__ import annotations
@@ -253,6 +255,8 @@ def _print_stroke_windows(w: dict) -> None:
         f"  {w['total_s']:7.2f} s  in all ({w['runs']} runs, {w['node_updates']:.3g} "
         f"node-updates, {w['node_updates_per_s']:.3g} per second)"
     )
+    every = ", ".join(f"{t:.2f}" for t in w.get("totals_s", []))
+    print(f"           the fastest of {len(w.get('totals_s', []))} searches ({every} s)")
 
 
 if __name__ == "__main__":

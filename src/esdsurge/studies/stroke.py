@@ -775,13 +775,16 @@ def stroke_windows(
     return StrokeResult(terminal, tuple(out), spread)
 
 
-def bench_jetty_windows(path: str | None = None) -> dict[str, object]:
+def bench_jetty_windows(path: str | None = None, repeats: int = 3) -> dict[str, object]:
     """Wall time of the full stroke window of every case of the jetty demo.
 
     A first, untimed call loads the compiled kernel; then :func:`stroke_windows`, as ``esdsurge
-    stroke`` runs it (the cases at the same time, so their own times overlap). Returns
-    ``{"cases": {"<case>": s, ...}, "total_s": s, "runs": member runs, "node_updates": grid
-    nodes times time steps, "node_updates_per_s": the rate the searches achieved}``.
+    stroke`` runs it (the cases at the same time, so their own times overlap), ``repeats``
+    times: on a shared machine the wall time of one search varies by some 10 %, and the
+    fastest is the figure least disturbed by other work. Returns ``{"cases": {"<case>": s,
+    ...}, "total_s": s (the fastest), "totals_s": [s, ...] (every repeat), "runs": member
+    runs, "node_updates": grid nodes times time steps, "node_updates_per_s": the rate the
+    fastest search achieved}``.
     """
     from pathlib import Path
 
@@ -793,15 +796,23 @@ def bench_jetty_windows(path: str | None = None) -> dict[str, object]:
         path = str(here if here.exists() else default)
     terminal = load(path)
     stroke_window(terminal, terminal.cases[0], top=2.0, coarse=2)  # load the kernel
-    t0 = time.perf_counter()
-    result = stroke_windows(terminal)
-    total = time.perf_counter() - t0
+    best: tuple[float, StrokeResult] | None = None
+    totals = []
+    for _ in range(max(1, repeats)):
+        t0 = time.perf_counter()
+        result = stroke_windows(terminal)
+        totals.append(time.perf_counter() - t0)
+        if best is None or totals[-1] < best[0]:
+            best = (totals[-1], result)
+    assert best is not None
+    total, result = best
     cases = {w.case.name: w.seconds for w in result.windows}
     runs = sum(w.runs for w in result.windows)
     updates = sum(w.node_updates for w in result.windows)
     return {
         "cases": cases,
         "total_s": total,
+        "totals_s": totals,
         "runs": runs,
         "node_updates": updates,
         "node_updates_per_s": updates / total if total > 0 else math.nan,
