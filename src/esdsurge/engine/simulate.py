@@ -444,7 +444,8 @@ def _stop_arrays(
     if len(stop.after) != len(members):
         raise ValueError(f"stop rule: {len(stop.after)} times for {len(members)} batch members")
     for b, m in enumerate(members):
-        arrays["stop_step"][b] = max(int(math.ceil(stop.after[b] / m.dt - 1e-9)), 1)
+        # the first step at or after ``after``, and one more against round-off in the time
+        arrays["stop_step"][b] = max(int(math.ceil(stop.after[b] / m.dt)) + 1, 1)
         for i, pl in enumerate(lay.place):
             name = names[i]
             if pl[0] == "line":
@@ -461,10 +462,13 @@ def _stop_arrays(
                 c = lay.connections[pl[1]]
                 pts = slice(c.first_point + pl[2], c.first_point + pl[2] + pl[3] + 1)
                 zp = m.point_z[c.first_point + pl[2]]
+                # two devices of a chain share the point between them: either bound stops
                 if name in p_max:
-                    arrays["stop_px"][b, pts] = zp + p_max[name] / rho_g
+                    px = arrays["stop_px"][b, pts]
+                    arrays["stop_px"][b, pts] = np.minimum(px, zp + p_max[name] / rho_g)
                 if name in p_min:
-                    arrays["stop_pn"][b, pts] = zp + p_min[name] / rho_g
+                    pn = arrays["stop_pn"][b, pts]
+                    arrays["stop_pn"][b, pts] = np.maximum(pn, zp + p_min[name] / rho_g)
                 if name in stop.no_cavity:
                     side = []
                     if c.left >= 0:
