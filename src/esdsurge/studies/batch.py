@@ -286,20 +286,21 @@ class Evaluator:
 
     # -- what a variant does to the case's events --------------------------------------------
 
-    def event_end(self, variant: Variant) -> float:
-        """End of the case's last closing event with ``variant``'s strokes [s]."""
+    def _end(self, ev: object, variant: Variant) -> float:
+        """When event ``ev`` is over with ``variant``'s strokes [s]: a closing element shut,
+        any other event at its time."""
         strokes = dict(variant.strokes)
-        end = 0.0
-        for ev in self.case.events:
-            if isinstance(ev, Close):
-                end = max(end, ev.at + strokes.get(ev.element, ev.stroke * variant.stroke_scale))
-            elif isinstance(ev, Release):
-                el = self.route.element(ev.element)
-                assert isinstance(el, Coupling)
-                end = max(end, ev.at + strokes.get(el.name, el.closing_time))
-            else:
-                end = max(end, ev.at)
-        return end
+        if isinstance(ev, Close):
+            return ev.at + strokes.get(ev.element, ev.stroke * variant.stroke_scale)
+        if isinstance(ev, Release):
+            el = self.route.element(ev.element)
+            assert isinstance(el, Coupling)
+            return ev.at + strokes.get(el.name, el.closing_time)
+        return ev.at  # type: ignore[attr-defined]
+
+    def event_end(self, variant: Variant) -> float:
+        """End of the case's last event with ``variant``'s strokes [s]."""
+        return max((self._end(ev, variant) for ev in self.case.events), default=0.0)
 
     # -- running ------------------------------------------------------------------------------
 
@@ -319,14 +320,7 @@ class Evaluator:
         """When the case's first closing element is shut with ``variant``'s strokes [s] (0
         when it closes nothing): from then on no more spill passes it."""
         first = first_closing_event(self.case)
-        if first is None:
-            return 0.0
-        strokes = dict(variant.strokes)
-        if isinstance(first, Close):
-            return first.at + strokes.get(first.element, first.stroke * variant.stroke_scale)
-        el = self.route.element(first.element)
-        assert isinstance(el, Coupling)
-        return first.at + strokes.get(el.name, el.closing_time)
+        return 0.0 if first is None else self._end(first, variant)
 
     def stop_rule(self, variants: Sequence[Variant]) -> StopRule:
         """The bounds beyond which a member fails whatever follows, as ``judge`` sees them: the
