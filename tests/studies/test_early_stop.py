@@ -144,3 +144,45 @@ def test_a_stop_rule_naming_an_unknown_element_is_refused():
             duration=0.1,
             stop=StopRule(max_abs=(("nowhere", 1e6),), after=(0.0,)),
         )
+
+
+def test_a_member_whose_spill_is_not_needed_stops_at_its_cavity_before_the_valve_shuts():
+    """A search that does not need a member's spill (``no_spill``) lets a counted cavity stop
+    it before its valve has shut: same verdict, the same cavity breach, less work, and no
+    spill (only part of it had passed); a passing member is not touched."""
+    t = load(str(DEMO))
+    case = t.cases[0]  # loading, shore ESD valve closes: 10.5 s forms a cavity, 40 s does not
+    valve = "shore ESD valve"
+    variants = [Variant(strokes=((valve, s),)) for s in (10.5, 40.0)]
+    ev = Evaluator(t, case, concurrent=False)
+    at_shut = ev.evaluate(variants)
+    n_shut = ev.node_updates
+    early = ev.evaluate(variants, no_spill=[True, True])
+    n_early = ev.node_updates - n_shut
+    whole = ev.evaluate(variants, keep=True)
+    shut = ev.shut_time(variants[0])
+    assert [o.limits_ok for o in early] == [o.limits_ok for o in whole] == [False, True]
+    cav = {(b.element, b.what) for b in early[0].breaches}
+    assert cav and all(what == "column separation" for _, what in cav)
+    assert cav <= {(b.element, b.what) for b in whole[0].breaches}
+    assert early[0].stopped is not None and early[0].stopped < shut <= at_shut[0].stopped
+    assert early[0].spill is None and early[0].spill_ok is None
+    assert at_shut[0].spill == pytest.approx(whole[0].spill, rel=1e-9)
+    # the passing member runs whole either way, bit for bit
+    assert early[1].stopped is None
+    assert (early[1].spill, early[1].measures) == (whole[1].spill, whole[1].measures)
+    assert n_early < n_shut
+
+
+def test_the_cavity_time_of_a_stop_rule_never_stops_for_pressure_before_its_after_time(tmp_path):
+    """``cavity_after`` lets only a cavity stop a member early: the Michaud line's 2 s closure
+    breaks its design pressure without a cavity, and still stops only after its valve shut."""
+    path = tmp_path / "line.yaml"
+    path.write_text(MICHAUD, encoding="utf-8")
+    t = load(str(path))
+    ev = Evaluator(t, t.cases[0], concurrent=False)
+    v = Variant(strokes=(("end valve", 2.0),))
+    out = ev.evaluate([v], no_spill=[True])[0]
+    assert not out.limits_ok and out.breaches[0].what == "highest pressure"
+    assert out.stopped is not None and out.stopped >= ev.shut_time(v)
+    assert out.spill is not None and not math.isnan(out.spill)

@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 from esdsurge.errors import UsageError
 from esdsurge.model import Close
 from esdsurge.physics.valves import travel_at, validate_travel_curve
-from esdsurge.studies.batch import Breach, Point
+from esdsurge.studies.batch import Breach, Point, boundary_estimate, margin_estimate
 from esdsurge.studies.check import check
 from esdsurge.studies.stroke import (
     closing_event,
@@ -420,3 +420,58 @@ def test_rising_peak_with_a_longer_stroke_is_reported():
 def test_points_are_compared_by_value_only():
     a = _p(1.0, True)
     assert dataclasses.replace(a, measures={}) == a
+
+
+def _cav_point(v, margins):
+    """A sample at ``v`` with the lowest pressure's margin above the vapour pressure on each
+    element [atm] (negative: above it; ``None``: a cavity forms there)."""
+    measures = {el: (math.nan, 0.0 if m is None else m, 0.0 if m is not None else 1e-3)
+                for el, m in margins.items()}  # fmt: skip
+    breaches = tuple(
+        Breach(el, "arm", "column separation", "vapour pressure", "")
+        for el, m in margins.items()
+        if m is None
+    )
+    return Point(v, not breaches, 1.0, 0.5, 0.0 if not breaches else 1e-3, breaches, measures)
+
+
+def test_a_cavity_end_is_placed_by_the_margins_carried_on_to_zero():
+    # margins at 22 s and 24 s of -0.02 and -0.06 atm reach zero at 21 s (a straight line);
+    # of two elements, the cavity that lasts longest (nearest the passing end) places it
+    pts = [
+        _cav_point(20.0, {"arm": None, "hose": None}),
+        _cav_point(22.0, {"arm": -0.02, "hose": -0.05}),
+        _cav_point(24.0, {"arm": -0.06, "hose": -0.07}),
+    ]
+    assert margin_estimate(pts, ["arm"], 20.0, 22.0) == pytest.approx(21.0)
+    assert margin_estimate(pts, ["hose"], 20.0, 22.0) is None  # reaches zero at 17 s
+    assert margin_estimate(pts, ["arm", "hose"], 20.0, 22.0) == pytest.approx(21.0)
+    # the same from above (a longer stroke forms the cavity): zero at 43 s
+    top = [
+        _cav_point(40.0, {"arm": -0.06}),
+        _cav_point(42.0, {"arm": -0.02}),
+        _cav_point(44.0, {"arm": None}),
+    ]
+    assert margin_estimate(top, ["arm"], 44.0, 42.0) == pytest.approx(43.0)
+    assert boundary_estimate(top, 44.0, 42.0) == pytest.approx(43.0)
+
+
+def test_a_cavity_margin_reaching_zero_just_beyond_the_failing_end_samples_beside_it():
+    # zero at 19.75 s, an eighth of the bracket beyond its failing end: sample next to 20 s;
+    # at 19 s (half the bracket beyond) the line is not trusted
+    near = [
+        _cav_point(20.0, {"arm": None}),
+        _cav_point(22.0, {"arm": -0.09}),
+        _cav_point(24.0, {"arm": -0.17}),
+    ]
+    assert margin_estimate(near, ["arm"], 20.0, 22.0) == 20.0
+    far = [
+        _cav_point(20.0, {"arm": None}),
+        _cav_point(22.0, {"arm": -0.12}),
+        _cav_point(24.0, {"arm": -0.2}),
+    ]
+    assert margin_estimate(far, ["arm"], 20.0, 22.0) is None
+    # no passing sample beyond the passing end, or margins that do not grow away from it
+    assert margin_estimate(near[:2], ["arm"], 20.0, 22.0) is None
+    flat = [near[0], _cav_point(22.0, {"arm": -0.1}), _cav_point(24.0, {"arm": -0.1})]
+    assert margin_estimate(flat, ["arm"], 20.0, 22.0) is None

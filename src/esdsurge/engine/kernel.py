@@ -325,6 +325,9 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
     pt_hmax, pt_kmax, pt_hmin, pt_kmin, vol_through, h_end, vol_end = out[9:16]
     ser_bq, ser_bs, br_out, stopped = out[16:20]
     stop_step = stops[0]
+    # a cavity alone may stop the member from step stop_cstep[b] (before stop_step[b] when its
+    # spill is not needed), the pressure bounds from stop_step[b]
+    first_look = min(stop_step[b], stops[6][b])
     h0, qu0, qd0, h1, qu1, qd1, hv, vol = state
     dt = dt_all[b]
     nn = n_nodes_all[b]
@@ -410,8 +413,8 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
         h0, h1 = h1, h0
         qu0, qu1 = qu1, qu0
         qd0, qd1 = qd1, qd0
-        if n >= stop_step[b] and (n - stop_step[b]) % STOP_EVERY == 0:
-            if _broken(b, nn, npts, envelope, pt_hmax, pt_hmin, stops):
+        if n >= first_look and (n - first_look) % STOP_EVERY == 0:
+            if _broken(b, nn, npts, envelope, pt_hmax, pt_hmin, stops, n >= stop_step[b]):
                 stopped[b] = n
                 break
 
@@ -434,15 +437,18 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
 
 
 @njit(cache=True, _nrt=False, error_model="numpy")
-def _broken(b, nn, npts, envelope, pt_hmax, pt_hmin, stops):
+def _broken(b, nn, npts, envelope, pt_hmax, pt_hmin, stops, pressures):
     """Member ``b``'s envelope is beyond one of its bounds by more than ``STOP_SLACK``: a
-    highest or lowest head at a node or a point, or a cavity at a node."""
+    cavity at a node, or (with ``pressures``) a highest or lowest head at a node or a point."""
     hmax, hmin, vmax = envelope[0], envelope[2], envelope[4]
     stop_hx, stop_hn, stop_v, stop_px, stop_pn = stops[1], stops[2], stops[3], stops[4], stops[5]
     for i in range(nn):
-        if hmax[i] > stop_hx[b, i] + STOP_SLACK or hmin[i] < stop_hn[b, i] - STOP_SLACK:
-            return True
         if vmax[i] > stop_v[b, i]:
+            return True
+    if not pressures:
+        return False
+    for i in range(nn):
+        if hmax[i] > stop_hx[b, i] + STOP_SLACK or hmin[i] < stop_hn[b, i] - STOP_SLACK:
             return True
     for p in range(npts):
         if pt_hmax[b, p] > stop_px[b, p] + STOP_SLACK or pt_hmin[b, p] < stop_pn[b, p] - STOP_SLACK:
@@ -472,6 +478,7 @@ def no_stops(nb: int, nnode: int, npts: int, nsteps: np.ndarray) -> dict:
         "stop_v": np.full((nb, nnode), np.inf),
         "stop_px": np.full((nb, npts), np.inf),
         "stop_pn": np.full((nb, npts), -np.inf),
+        "stop_cstep": np.asarray(nsteps, dtype=np.int64) + 1,
     }
 
 

@@ -74,6 +74,9 @@ class StopRule:
     after : per batch member, in the order of the variants, the time before which it may not
         stop [s] (e.g. until the valve whose let-through volume is measured has shut, so that
         the volume is whole)
+    cavity_after : per batch member, the time from which a cavity alone may stop it [s]
+        (empty: ``after``); earlier than ``after`` for a member whose let-through volume is
+        not needed, since a counted cavity often forms well before the valve has shut
 
     The engine stops a member only when a head is beyond its bound by more than
     ``engine.codes.STOP_SLACK`` (1e-6 m of liquid, a hundredth of a pascal), so that the same
@@ -87,6 +90,7 @@ class StopRule:
     no_cavity: tuple[str, ...] = ()
     cavity: float = 0.0
     after: tuple[float, ...] = ()
+    cavity_after: tuple[float, ...] = ()
 
 
 @dataclass(frozen=True, kw_only=True)

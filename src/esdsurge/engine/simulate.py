@@ -443,9 +443,15 @@ def _stop_arrays(
         raise ValueError(f"stop rule: no element named {', '.join(map(repr, unknown))}")
     if len(stop.after) != len(members):
         raise ValueError(f"stop rule: {len(stop.after)} times for {len(members)} batch members")
+    cavity_after = stop.cavity_after or stop.after
+    if len(cavity_after) != len(members):
+        raise ValueError(
+            f"stop rule: {len(cavity_after)} cavity times for {len(members)} batch members"
+        )
     for b, m in enumerate(members):
         # the first step at or after ``after``, and one more against round-off in the time
         arrays["stop_step"][b] = max(int(math.ceil(stop.after[b] / m.dt)) + 1, 1)
+        arrays["stop_cstep"][b] = max(int(math.ceil(cavity_after[b] / m.dt)) + 1, 1)
         for i, pl in enumerate(lay.place):
             name = names[i]
             if pl[0] == "line":

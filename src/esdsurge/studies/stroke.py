@@ -611,6 +611,23 @@ def stroke_window(
 
     samples: dict[float, list[Outcome | None]] = {}
 
+    def spill_known(v: float, m: int) -> bool:
+        """Member ``m``'s spill at ``v`` is not needed: the case has no spill limit, or a
+        longer stroke already run lets through no more than it, below any stroke found above
+        it. Such a member, if it fails for a cavity, fails whatever its spill, and lies outside
+        the window, whose spill end the sampled spills place."""
+        if case.spill_limit is None:
+            return True
+        for u in sorted(samples):
+            o = samples[u][m]
+            if o is None or o.spill is None:
+                continue
+            if o.spill > case.spill_limit:
+                return False
+            if u > v:
+                return True
+        return False
+
     def run(requests: dict[float, set[int]], keep: bool = False) -> list[Outcome]:
         todo = [
             (v, m)
@@ -619,7 +636,8 @@ def stroke_window(
             if v not in samples or samples[v][m] is None or keep
         ]
         variants = [band_members[m].variant(**changes(v)) for v, m in todo]
-        outs = ev.evaluate(variants, keep=keep) if variants else []
+        free = [spill_known(v, m) for v, m in todo]
+        outs = ev.evaluate(variants, keep=keep, no_spill=free) if variants else []
         for (v, m), out in zip(todo, outs, strict=True):
             samples.setdefault(v, [None] * len(band_members))[m] = out
         return outs
