@@ -172,6 +172,8 @@ def update_lines(state, envelope, starts, reaches, bs, rs, coef, dt, n, cav_on, 
     h0, qu0, qd0, h1, qu1, qd1, hv, vol = state
     hmax, kmax, hmin, kmin, vmax, kv = envelope
     nl = starts.shape[0]
+    if nl == 0:
+        return
     last = starts[nl - 1] + reaches[nl - 1]
     nc, nx, nm = _plain(h0, qu0, qd0, h1, qu1, qd1, hv, vol, hmax, hmin, coef[0], coef[1], last)
     for ln in range(1, nl):
