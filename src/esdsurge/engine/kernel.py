@@ -245,16 +245,9 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, stops
     qd1 = qd0.copy()
     vol = np.zeros(nn)
     hv = hv_all[b]
-    spans = np.empty((nlines, 4), dtype=np.int64)
+    spans = np.empty((nlines, 2), dtype=np.int64)
     spans[:, 0] = NONE
     spans[:, 1] = -1
-    # each node's line coefficients, for the one plain pass over every line
-    coef = (np.empty(nn), np.empty(nn))
-    for ln in range(nlines):
-        st = line_start[b, ln]
-        for i in range(st, st + line_n[b, ln] + 1):
-            coef[0][i] = line_b[b, ln]
-            coef[1][i] = line_r[b, ln]
     envelope = (hmax_all[b], kmax_all[b], hmin_all[b], kmin_all[b], vmax_all[b], kv_all[b])
     for i in range(nn):
         envelope[0][i] = h0[i]
@@ -300,13 +293,13 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, stops
         br_out[b, j, B_SMIN] = bs[j]
         br_out[b, j, B_SMAX] = bs[j]
     _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out, state,
-           envelope, spans, coef, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
+           envelope, spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
            bs)  # fmt: skip
 
 
 @njit(cache=True, _nrt=False, error_model="numpy")
 def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out, state,
-           envelope, spans, coef, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
+           envelope, spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
            bs):  # fmt: skip
     """The time steps of batch member ``b``, from the state :func:`_member` set up.
 
@@ -346,8 +339,8 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
         t = n * dt
         update_devices(b, t, dt, g, kind, dev_par, tab_t, tab_a, tab_n, row, work)
         state = (h0, qu0, qd0, h1, qu1, qd1, hv, vol)
-        update_lines(state, envelope, line_start[b], line_n[b], line_b[b], line_r[b], coef, dt,
-                     n, cav_on, spans)  # fmt: skip
+        update_lines(state, envelope, line_start[b], line_n[b], line_b[b], line_r[b], dt, n,
+                     cav_on, spans)  # fmt: skip
         _connections(b, n, state, envelope, grid, conns, devices, work, q_conn, q_conr, pth,
                      qscale_all[b], dt, g, cav_on)  # fmt: skip
         for p in range(npts):
