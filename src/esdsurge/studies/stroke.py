@@ -611,7 +611,7 @@ def stroke_window(
 
     samples: dict[float, list[Outcome | None]] = {}
 
-    def spill_known(v: float, m: int) -> bool:
+    def spill_not_needed(v: float, m: int) -> bool:
         """Member ``m``'s spill at ``v`` is not needed: the case has no spill limit, or a
         longer stroke already run lets through no more than it, below any stroke found above
         it. Such a member, if it fails for a cavity, fails whatever its spill, and lies outside
@@ -636,8 +636,8 @@ def stroke_window(
             if v not in samples or samples[v][m] is None or keep
         ]
         variants = [band_members[m].variant(**changes(v)) for v, m in todo]
-        free = [spill_known(v, m) for v, m in todo]
-        outs = ev.evaluate(variants, keep=keep, no_spill=free) if variants else []
+        no_spill = [spill_not_needed(v, m) for v, m in todo]
+        outs = ev.evaluate(variants, keep=keep, no_spill=no_spill) if variants else []
         for (v, m), out in zip(todo, outs, strict=True):
             samples.setdefault(v, [None] * len(band_members))[m] = out
         return outs
