@@ -247,8 +247,39 @@ def _runout(h0: float, h1: float, h2: float) -> float:
     return max(real)
 
 
+#: most secant steps of :func:`_root_near` before it falls back on a bracketing search
+SECANT_STEPS = 20
+
+
 def _root(fn: Callable[[float], float], lo: float, hi: float) -> float:
     return float(brentq(fn, lo, hi, xtol=1e-10, rtol=1e-12, maxiter=200))
+
+
+def _root_near(fn: Callable[[float], float], lo: float, hi: float, near: Sequence[float]) -> float:
+    """Root of ``fn`` in ``[lo, hi]`` (the ends of opposite sign), started from ``near``, the
+    roots of the one or two problems solved just before, which lie close to this one.
+
+    Secant steps from the last root and a straight line through the last two take some four
+    residuals where a bracketing search from the ends takes a dozen. Hand-written, as
+    ``scipy.optimize.newton`` compares its steps with ``numpy.isclose``, which costs more than
+    a residual here. The same tolerances as :func:`_root`, which is used when there is nothing
+    to start from or the steps leave the bracket or do not settle.
+    """
+    if near:
+        x0 = near[-1]
+        x1 = 2.0 * near[-1] - near[-2] if len(near) > 1 else x0 * (1.0 - 1e-4)
+        if lo < x0 < hi and lo < x1 < hi and x1 != x0:
+            f0, f1 = fn(x0), fn(x1)
+            for _ in range(SECANT_STEPS):
+                if f1 == f0:
+                    break
+                x2 = x1 - f1 * (x1 - x0) / (f1 - f0)
+                if not lo <= x2 <= hi:
+                    break
+                if abs(x2 - x1) <= 1e-10 + 1e-12 * abs(x2):
+                    return x2
+                x0, f0, x1, f1 = x1, f1, x2, fn(x2)
+    return _root(fn, lo, hi)
 
 
 def steady_state(
@@ -447,11 +478,15 @@ def quasi_steady_closure(
     k_thr = state.throttled_head / state.flow**2 if state.throttled_head > 0.0 else 0.0
     throttle = (state.throttle_at, k_thr) if state.throttle_at else None
     q0 = state.flow
-    flows = np.empty_like(np.asarray(times, dtype=float))
-    for k, t in enumerate(np.asarray(times, dtype=float)):
-        travel = valves.travel_at(event.travel, event.stroke, t - event.at)
-        rel = float(valves.relative_flow(char, travel))
-        if rel <= 0.0:
+    # at no flow the valve takes no head, whatever its opening: one residual serves every time
+    r_still = bal.residual(0.0, throttle=throttle, fixed_friction=True)
+    times = np.asarray(times, dtype=float)
+    flows = np.empty_like(times)
+    travels = valves.travel_at(event.travel, event.stroke, times - event.at)
+    rels = np.atleast_1d(valves.relative_flow(char, travels)).astype(float)
+    near: list[float] = []  # the last flows found, latest last: the next one lies close by
+    for k, rel in enumerate(rels.tolist()):
+        if rel <= 0.0 or r_still * math.copysign(1.0, q0) <= 0.0:
             flows[k] = 0.0
             continue
         openings = {valve.name: rel}
@@ -459,12 +494,11 @@ def quasi_steady_closure(
         def res(q: float, openings: dict[str, float] = openings) -> float:
             return bal.residual(q, openings=openings, throttle=throttle, fixed_friction=True)
 
-        if res(0.0) * math.copysign(1.0, q0) <= 0.0:
-            flows[k] = 0.0
-            continue
         lo, hi = (0.0, q0 * 1.0000001) if q0 > 0 else (q0 * 1.0000001, 0.0)
-        if res(lo) * res(hi) > 0.0:
+        r_lo, r_hi = (r_still, res(hi)) if q0 > 0 else (res(lo), r_still)
+        if r_lo * r_hi > 0.0:
             flows[k] = q0
             continue
-        flows[k] = _root(res, lo, hi)
+        flows[k] = _root_near(res, lo, hi, near[-2:])
+        near.append(float(flows[k]))
     return flows

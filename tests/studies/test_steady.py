@@ -207,3 +207,23 @@ def test_a_line_ending_above_the_liquid_it_fills_discharges_at_the_gas_pressure(
     run = simulate(route, WATER, case, duration=1.0)
     assert abs(run.initial_mismatch[0]) < 1e-6
     assert run.p_max_abs[0, 2] == pytest.approx(ATM, rel=1e-9)
+
+
+def test_warm_started_root_agrees_with_brentq_and_falls_back():
+    # the secant steps from nearby roots land where scipy's brentq lands from the bracket (a
+    # reference library); a start outside the bracket falls back on brentq
+    from scipy.optimize import brentq
+
+    from esdsurge.steady import _root_near
+
+    def balance(q, k=3.0):  # a pump curve 60 - 40 q^2 against a loss k q|q| [m]
+        return 60.0 - 40.0 * q * q - k * q * abs(q)
+
+    roots = []
+    for k in np.linspace(3.0, 300.0, 40):
+        q = _root_near(lambda x, k=k: balance(x, k), 0.0, 2.0, roots[-2:])
+        assert q == pytest.approx(brentq(balance, 0.0, 2.0, args=(k,), xtol=1e-14), abs=1e-10)
+        roots.append(q)
+    # the line through the last two roots points below 0: brentq from the bracket instead
+    q = _root_near(lambda x: balance(x, 30.0), 0.0, 2.0, [1.99, 1e-3])
+    assert q == pytest.approx(brentq(balance, 0.0, 2.0, args=(30.0,), xtol=1e-14), abs=1e-10)

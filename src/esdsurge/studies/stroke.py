@@ -43,7 +43,7 @@ import numpy as np
 from esdsurge.errors import UsageError
 from esdsurge.model import Case, Close, Coupling, Release, Terminal
 from esdsurge.physics import handcalc
-from esdsurge.steady import quasi_steady_closure
+from esdsurge.steady import quasi_steady_closure, steady_state
 from esdsurge.studies.batch import (
     Breach,
     Evaluator,
@@ -298,12 +298,13 @@ def effective_closure(
     travel = event.travel if isinstance(event, Close) else ((0.0, 1.0), (1.0, 0.0))
     close = Close(element=event.element, at=event.at, stroke=stroke, travel=travel)
     atm = terminal.atmosphere_abs
+    state = steady_state(route, fluid, case, atm)
     t = event.at + stroke * np.linspace(0.0, 1.0, 101)
-    q = np.abs(quasi_steady_closure(route, fluid, case, atm, close, t))
+    q = np.abs(quasi_steady_closure(route, fluid, case, atm, close, t, state))
     k = int(np.argmax(np.abs(np.diff(q))))
     lo, hi = t[max(k - 2, 0)], t[min(k + 3, len(t) - 1)]
     fine = np.linspace(lo, hi, 101)
-    qf = np.abs(quasi_steady_closure(route, fluid, case, atm, close, fine))
+    qf = np.abs(quasi_steady_closure(route, fluid, case, atm, close, fine, state))
     times = np.concatenate([t[t < lo], fine, t[t > hi]])
     flows = np.concatenate([q[t < lo], qf, q[t > hi]])
     return handcalc.effective_closure_time(times, flows)
