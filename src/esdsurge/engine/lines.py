@@ -30,9 +30,11 @@ def _plain(H0, U0, D0, H1, U1, D1, HV, VOL, HX, HN, m, bb, rr):
 
     ``H`` head [m], ``U`` flow entering a node from the left, ``D`` flow leaving it to the right
     [m^3/s]; 0 old, 1 new. ``bb = a/(gA)``, ``rr = f dx / (2 g D A^2)``. Returns how many nodes
-    are below the vapour head ``HV`` or hold a cavity, and how many moved beyond their envelope
-    ``HX``/``HN``: the tests of :func:`_counted`, written on the new head here so that the loop
-    vectorises (keep the two alike). Counts, not the first and last
+    are below the vapour head ``HV``, and how many moved beyond their envelope ``HX``/``HN``:
+    the tests of :func:`_counted`, written on the new head here so that the loop vectorises
+    (keep the two alike). No node given to it holds a cavity (``VOL`` is zero there):
+    :func:`update_line` gives the cavitating update to the stretch that held cavities, one
+    node wider each side, so its volume is not read. Counts, not the first and last
     such node: a sum vectorises to one instruction, while a running minimum and maximum of
     64-bit indices has no AVX2 instruction and took about 40 % of the update.
     """
@@ -51,7 +53,7 @@ def _plain(H0, U0, D0, H1, U1, D1, HV, VOL, HX, HN, m, bb, rr):
         H1[i] = hh
         U1[i] = qq
         D1[i] = qq
-        nc += np.int64((hh < HV[i]) | (VOL[i] > 0.0))
+        nc += np.int64(hh < HV[i])
         ne += np.int64((hh > HX[i] + ENVELOPE_SLACK) | (hh < HN[i] - ENVELOPE_SLACK))
     return nc, ne
 
@@ -63,11 +65,11 @@ CAVITY_TEST, ENVELOPE_TEST = 0, 1
 @njit(cache=True, _nrt=False, error_model="numpy", inline="always")
 def _counted(test, i, H1, A, B):
     """Node ``i`` passes ``test``, as :func:`_plain` counts it: ``CAVITY_TEST`` (``A`` the
-    vapour head, ``B`` the cavity volume) below the vapour head or holding a cavity;
+    vapour head, ``B`` unused) below the vapour head;
     ``ENVELOPE_TEST`` (``A``, ``B`` the envelope's highest and lowest head) beyond the envelope
     by more than ``ENVELOPE_SLACK``."""
     if test == CAVITY_TEST:
-        return (H1[i] < A[i]) | (B[i] > 0.0)
+        return H1[i] < A[i]
     return (H1[i] > A[i] + ENVELOPE_SLACK) | (H1[i] < B[i] - ENVELOPE_SLACK)
 
 
