@@ -23,6 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.optimize import brentq
+from scipy.optimize.elementwise import find_root
 
 from esdsurge.errors import SteadyStateError
 from esdsurge.lineup import LineData, sections
@@ -168,10 +169,15 @@ class _Balance:
         re = friction.reynolds(v, ln.diameter, self.fluid.kinematic_viscosity)
         return friction.darcy_friction_factor(re, ln.roughness / ln.diameter)
 
-    def pump_head(self, pump: Pump, flow: float) -> float:
-        """Head the station adds in its push direction at route flow ``flow`` [m]."""
+    def pump_head(self, pump: Pump, flow: float | np.ndarray) -> float | np.ndarray:
+        """Head the station adds in its push direction at route flow ``flow`` [m] (a flow, or
+        an array of flows: a head each)."""
         n = self.running[pump.name]
         q = flow * pump.pushes
+        if np.ndim(q) > 0:
+            if n == 0:
+                return np.zeros_like(q)
+            return np.where(q < 0.0, 0.0, pumps.pump_head(self.curves[pump.name], q, 1.0, n))
         if n == 0 or q < 0.0:
             return 0.0
         return pumps.pump_head(self.curves[pump.name], q, 1.0, n)
@@ -189,6 +195,10 @@ class _Balance:
         throttle : (pump name, loss coefficient on Q|Q| [s^2/m^5]) at that pump's discharge
         fixed_friction : use the friction factors stored by ``solve`` instead of Colebrook at
             ``flow`` (quasi-steady closures keep the initial factor, as the engine does)
+
+        ``flow`` and the openings may also be arrays (broadcast together; with
+        ``fixed_friction``, and openings above zero): the changes are then arrays, one value
+        per flow, as the quasi-steady closure solves every time at once.
         """
         out = []
         for i, (e, ln) in enumerate(zip(self.route.elements, self.lines, strict=True)):
@@ -202,7 +212,7 @@ class _Balance:
             elif isinstance(e, VALVE_LIKE):
                 rel = 1.0 if openings is None else openings.get(e.name, 1.0)
                 area = e.flow_area * rel
-                if area <= 0.0:
+                if np.ndim(area) == 0 and area <= 0.0:
                     out.append(-math.copysign(math.inf, flow) if flow else 0.0)
                 else:
                     out.append(-flow * abs(flow) / (2.0 * G * area * area))
@@ -215,7 +225,7 @@ class _Balance:
                 out.append(0.0)
         return out
 
-    def residual(self, flow: float, **kw: object) -> float:
+    def residual(self, flow: float | np.ndarray, **kw: object) -> float | np.ndarray:
         """Head left over at the carrier tank: positive means the route could pass more."""
         return self.h_shore + sum(self.changes(flow, **kw)) - self.h_carrier  # type: ignore[arg-type]
 
@@ -247,39 +257,8 @@ def _runout(h0: float, h1: float, h2: float) -> float:
     return max(real)
 
 
-#: most secant steps of :func:`_root_near` before it falls back on a bracketing search
-SECANT_STEPS = 20
-
-
 def _root(fn: Callable[[float], float], lo: float, hi: float) -> float:
     return float(brentq(fn, lo, hi, xtol=1e-10, rtol=1e-12, maxiter=200))
-
-
-def _root_near(fn: Callable[[float], float], lo: float, hi: float, near: Sequence[float]) -> float:
-    """Root of ``fn`` in ``[lo, hi]`` (the ends of opposite sign), started from ``near``, the
-    roots of the one or two problems solved just before, which lie close to this one.
-
-    Secant steps from the last root and a straight line through the last two take some four
-    residuals where a bracketing search from the ends takes a dozen. Hand-written, as
-    ``scipy.optimize.newton`` compares its steps with ``numpy.isclose``, which costs more than
-    a residual here. The same tolerances as :func:`_root`, which is used when there is nothing
-    to start from or the steps leave the bracket or do not settle.
-    """
-    if near:
-        x0 = near[-1]
-        x1 = 2.0 * near[-1] - near[-2] if len(near) > 1 else x0 * (1.0 - 1e-4)
-        if lo < x0 < hi and lo < x1 < hi and x1 != x0:
-            f0, f1 = fn(x0), fn(x1)
-            for _ in range(SECANT_STEPS):
-                if f1 == f0:
-                    break
-                x2 = x1 - f1 * (x1 - x0) / (f1 - f0)
-                if not lo <= x2 <= hi:
-                    break
-                if abs(x2 - x1) <= 1e-10 + 1e-12 * abs(x2):
-                    return x2
-                x0, f0, x1, f1 = x1, f1, x2, fn(x2)
-    return _root(fn, lo, hi)
 
 
 def steady_state(
@@ -478,27 +457,35 @@ def quasi_steady_closure(
     k_thr = state.throttled_head / state.flow**2 if state.throttled_head > 0.0 else 0.0
     throttle = (state.throttle_at, k_thr) if state.throttle_at else None
     q0 = state.flow
+    times = np.asarray(times, dtype=float)
+    flows = np.zeros_like(times)
     # at no flow the valve takes no head, whatever its opening: one residual serves every time
     r_still = bal.residual(0.0, throttle=throttle, fixed_friction=True)
-    times = np.asarray(times, dtype=float)
-    flows = np.empty_like(times)
+    if r_still * math.copysign(1.0, q0) <= 0.0:
+        return flows  # nothing drives a flow the way it ran
     travels = valves.travel_at(event.travel, event.stroke, times - event.at)
-    rels = np.atleast_1d(valves.relative_flow(char, travels)).astype(float)
-    near: list[float] = []  # the last flows found, latest last: the next one lies close by
-    for k, rel in enumerate(rels.tolist()):
-        if rel <= 0.0 or r_still * math.copysign(1.0, q0) <= 0.0:
-            flows[k] = 0.0
-            continue
-        openings = {valve.name: rel}
+    rels = np.broadcast_to(valves.relative_flow(char, travels), times.shape)
+    moving = rels > 0.0  # shut: no flow
 
-        def res(q: float, openings: dict[str, float] = openings) -> float:
-            return bal.residual(q, openings=openings, throttle=throttle, fixed_friction=True)
+    def res(q: np.ndarray, rel: np.ndarray) -> np.ndarray:
+        out = bal.residual(q, openings={valve.name: rel}, throttle=throttle, fixed_friction=True)
+        return out  # type: ignore[return-value]
 
-        lo, hi = (0.0, q0 * 1.0000001) if q0 > 0 else (q0 * 1.0000001, 0.0)
-        r_lo, r_hi = (r_still, res(hi)) if q0 > 0 else (res(lo), r_still)
-        if r_lo * r_hi > 0.0:
-            flows[k] = q0
-            continue
-        flows[k] = _root_near(res, lo, hi, near[-2:])
-        near.append(float(flows[k]))
+    rel = rels[moving]
+    lo, hi = (0.0, q0 * 1.0000001) if q0 > 0 else (q0 * 1.0000001, 0.0)
+    r_end = res(np.full(rel.shape, hi if q0 > 0 else lo), rel)
+    # the valve still passes the whole flow at its travel (as at the start): no root between
+    full = r_end * math.copysign(1.0, q0) > 0.0
+    q = np.full(rel.shape, q0)
+    if np.any(~full):
+        # every time at once: Chandrupatla's bracketing method, elementwise (scipy)
+        found = find_root(
+            res, (lo, hi), args=(rel[~full],), tolerances={"xatol": 1e-10, "xrtol": 1e-12}
+        )
+        roots = np.asarray(found.x, dtype=float)
+        for k in np.flatnonzero(~np.asarray(found.success)):  # not seen; brentq then
+            r = float(rel[~full][k])
+            roots[k] = _root(lambda x, r=r: float(res(np.asarray(x), np.asarray(r))), lo, hi)
+        q[~full] = roots
+    flows[moving] = q
     return flows

@@ -209,21 +209,85 @@ def test_a_line_ending_above_the_liquid_it_fills_discharges_at_the_gas_pressure(
     assert run.p_max_abs[0, 2] == pytest.approx(ATM, rel=1e-9)
 
 
-def test_warm_started_root_agrees_with_brentq_and_falls_back():
-    # the secant steps from nearby roots land where scipy's brentq lands from the bracket (a
-    # reference library); a start outside the bracket falls back on brentq
+def test_quasi_steady_closure_of_pumped_routes_matches_brentq_at_each_time():
+    # the demo jetty's cases (shore pumps pushing, ship pumps pushing the other way, a throttle):
+    # the flows solved for every time at once (scipy's elementwise Chandrupatla) are the roots
+    # that scipy's brentq finds time by time on the same head balance (reference library)
+    from pathlib import Path
+
     from scipy.optimize import brentq
 
-    from esdsurge.steady import _root_near
+    from esdsurge.physics import valves
+    from esdsurge.steady import _Balance
+    from esdsurge.terminal import load
 
-    def balance(q, k=3.0):  # a pump curve 60 - 40 q^2 against a loss k q|q| [m]
-        return 60.0 - 40.0 * q * q - k * q * abs(q)
+    t = load(Path(__file__).resolve().parents[2] / "terminals" / "jetty.yaml")
+    checked = 0
+    for case in t.cases:
+        ev = next((e for e in case.events if isinstance(e, Close)), None)
+        if ev is None:
+            continue
+        route, fluid = t.routes[case.route], t.products[case.product]
+        state = steady_state(route, fluid, case, t.atmosphere_abs)
+        times = ev.at + ev.stroke * np.linspace(0.0, 1.0, 41)
+        q = quasi_steady_closure(route, fluid, case, t.atmosphere_abs, ev, times, state)
+        bal = _Balance(route, fluid, case, t.atmosphere_abs)
+        bal.ff = [
+            bal.friction_factor(i, state.flow) if ln.length > 0.0 else None
+            for i, ln in enumerate(bal.lines)
+        ]
+        valve = route.element(ev.element)
+        char = valve.characteristic or valves.inherent_characteristic(valve.valve_type)
+        k_thr = state.throttled_head / state.flow**2 if state.throttled_head > 0.0 else 0.0
+        throttle = (state.throttle_at, k_thr) if state.throttle_at else None
+        q0 = state.flow
+        for tk, qk in zip(times, q, strict=True):
+            rel = float(
+                valves.relative_flow(char, valves.travel_at(ev.travel, ev.stroke, tk - ev.at))
+            )
+            if rel == 0.0:
+                assert qk == 0.0
+                continue
 
-    roots = []
-    for k in np.linspace(3.0, 300.0, 40):
-        q = _root_near(lambda x, k=k: balance(x, k), 0.0, 2.0, roots[-2:])
-        assert q == pytest.approx(brentq(balance, 0.0, 2.0, args=(k,), xtol=1e-14), abs=1e-10)
-        roots.append(q)
-    # the line through the last two roots points below 0: brentq from the bracket instead
-    q = _root_near(lambda x: balance(x, 30.0), 0.0, 2.0, [1.99, 1e-3])
-    assert q == pytest.approx(brentq(balance, 0.0, 2.0, args=(30.0,), xtol=1e-14), abs=1e-10)
+            def res(x, rel=rel, bal=bal, name=valve.name, throttle=throttle):
+                return bal.residual(x, openings={name: rel}, throttle=throttle, fixed_friction=True)
+
+            lo, hi = sorted((0.0, q0 * 1.0000001))
+            ref = q0 if res(lo) * res(hi) > 0.0 else brentq(res, lo, hi, xtol=1e-14)
+            assert qk == pytest.approx(ref, abs=1e-9)
+            checked += 1
+    assert checked > 60  # the closing cases, their moving times
+
+
+def test_quasi_steady_closure_falls_back_on_brentq_where_the_elementwise_solve_fails(monkeypatch):
+    # a time whose elementwise solve did not converge is solved alone by brentq: same flows
+    from scipy.optimize.elementwise import find_root
+
+    import esdsurge.steady as st
+
+    d = 0.3
+    area = math.pi * d * d / 4
+    route = Route(
+        name="r",
+        elements=(
+            Tank(name="a", surface=20.0),
+            pipe("p", 2000.0, d, 0.02),
+            valve("v", 0.9 * area),
+            Tank(name="b", surface=0.0),
+        ),
+    )
+    case = Case(name="c", route="r", product="water")
+    ev = Close(element="v", at=1.0, stroke=10.0)
+    t = np.linspace(0, 12, 61)
+    good = quasi_steady_closure(route, WATER, case, ATM, ev, t)
+
+    def failing(*args, **kw):
+        out = find_root(*args, **kw)
+        out.success[::2] = False
+        out.x[::2] = np.nan
+        return out
+
+    monkeypatch.setattr(st, "find_root", failing)
+    again = quasi_steady_closure(route, WATER, case, ATM, ev, t)
+    assert np.all(np.isfinite(again))
+    np.testing.assert_allclose(again, good, rtol=0, atol=1e-9)

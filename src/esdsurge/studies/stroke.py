@@ -43,7 +43,7 @@ import numpy as np
 from esdsurge.errors import UsageError
 from esdsurge.model import Case, Close, Coupling, Release, Terminal
 from esdsurge.physics import handcalc
-from esdsurge.steady import quasi_steady_closure, steady_state
+from esdsurge.steady import SteadyState, quasi_steady_closure, steady_state
 from esdsurge.studies.batch import (
     Breach,
     Evaluator,
@@ -285,20 +285,25 @@ def staged_event(terminal: Terminal, case: Case, event: Close | Release) -> Clos
 
 
 def effective_closure(
-    terminal: Terminal, case: Case, event: Close | Release, stroke: float
+    terminal: Terminal,
+    case: Case,
+    event: Close | Release,
+    stroke: float,
+    state: SteadyState | None = None,
 ) -> float:
     """Effective closure time of ``event``'s element at ``stroke`` [s].
 
     The quasi-steady flow while the element closes (installed characteristic, pumps running,
     :func:`esdsurge.steady.quasi_steady_closure`), sampled over the travel and again finely
     around its steepest fall; then :func:`esdsurge.physics.handcalc.effective_closure_time`.
+    ``state`` is the case's steady state, when the caller has it already.
     """
     route = terminal.routes[case.route]
     fluid = terminal.products[case.product]
     travel = event.travel if isinstance(event, Close) else ((0.0, 1.0), (1.0, 0.0))
     close = Close(element=event.element, at=event.at, stroke=stroke, travel=travel)
     atm = terminal.atmosphere_abs
-    state = steady_state(route, fluid, case, atm)
+    state = state or steady_state(route, fluid, case, atm)
     t = event.at + stroke * np.linspace(0.0, 1.0, 101)
     q = np.abs(quasi_steady_closure(route, fluid, case, atm, close, t, state))
     k = int(np.argmax(np.abs(np.diff(q))))
@@ -552,7 +557,7 @@ def stroke_window(
 
     def closure_time(v: float) -> float:
         whole, ev_v = setting(v)
-        return effective_closure(terminal, case, ev_v, whole)
+        return effective_closure(terminal, case, ev_v, whole, ev.base.steady)
 
     first = first_closing_event(case)
     closing = first.element if first is not None else None
