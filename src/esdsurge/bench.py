@@ -257,6 +257,11 @@ def _print_stroke_windows(w: dict) -> None:
     )
     every = ", ".join(f"{t:.2f}" for t in w.get("totals_s", []))
     print(f"           the fastest of {len(w.get('totals_s', []))} searches ({every} s)")
+    if "cpu_s" in w:
+        print(
+            f"           {w['cpu_s']:.2f} s of processor time on {w['processors']} "
+            "processors (the wall time cannot be less than that shared out)"
+        )
 
 
 if __name__ == "__main__":
