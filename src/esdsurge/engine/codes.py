@@ -96,7 +96,8 @@ DEVICES = ("dev_kind", "dev_par", "tab_t", "tab_a", "tab_n", "pump_dev", "br_dev
 #: connection's flow on the shore side (0) or the carrier side (1) of its branch devices
 PROBES = ("probe_kind", "probe_ref", "probe_side", "probe_conn", "probe_tank")
 #: per member: the first step at which it may stop (past the last step: never); per node and
-#: per point, the heads [m] and cavity volume [m^3] beyond which it stops (``run.StopRule``)
+#: per point, the heads [m] and cavity volume [m^3] beyond which it stops; per member, the first
+#: step at which a cavity alone may stop it (``run.StopRule``)
 STOPS = ("stop_step", "stop_hx", "stop_hn", "stop_v", "stop_px", "stop_pn", "stop_cstep")
 OUTPUTS = (
     "ser_h",

@@ -317,10 +317,10 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
     ser_h, ser_q, ser_s = out[0], out[1], out[2]
     pt_hmax, pt_kmax, pt_hmin, pt_kmin, vol_through, h_end, vol_end = out[9:16]
     ser_bq, ser_bs, br_out, stopped = out[16:20]
-    stop_step = stops[0]
+    stop_step, stop_cstep = stops[0], stops[6]
     # a cavity alone may stop the member from step stop_cstep[b] (before stop_step[b] when its
     # spill is not needed), the pressure bounds from stop_step[b]
-    first_look = min(stop_step[b], stops[6][b])
+    first_look = min(stop_step[b], stop_cstep[b])
     h0, qu0, qd0, h1, qu1, qd1, hv, vol = state
     dt = dt_all[b]
     nn = n_nodes_all[b]
