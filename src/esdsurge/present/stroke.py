@@ -35,15 +35,23 @@ def _val(sw: StrokeWindow, v: float, f: Fmt, named: bool = True) -> str:
 
 
 def _scan(points: tuple[Point, ...], w: Window, f: Fmt, noun: str = "stroke") -> Text:
-    """The sampled values on one line: ✓ keeps every limit, ✗ breaks one, ○ above the top."""
+    """The sampled values on one line: ✓ keeps every limit, ~ broke none as far as it was run
+    (not run whole), ✗ breaks one, ○ above the top."""
     txt = Text(f"{noun}s run: ", style="dim")
     top = w.stroke_max
+    part = False
     for p in points:
         beyond = top is not None and p.value > top + 1e-9
-        mark, style = ("○", "dim") if beyond else (("✓", "green") if p.ok else ("✗", "red"))
+        if beyond:
+            mark, style = "○", "dim"
+        elif p.ok and p.provisional:
+            mark, style, part = "~", "yellow", True
+        else:
+            mark, style = ("✓", "green") if p.ok else ("✗", "red")
         txt.append(f"{p.value:g}", style="dim")
         txt.append(mark + " ", style=style)
-    txt.append("(s; ○ beyond the slowest allowed)", style="dim")
+    legend = "~ broke no limit as far as it was run, not run whole; " if part else ""
+    txt.append(f"(s; {legend}○ beyond the slowest allowed)", style="dim")
     return txt
 
 
@@ -247,6 +255,8 @@ def window_json(w: Window, sw: StrokeWindow | None = None) -> dict[str, Any]:
                 "peak_ratio": _r(p.peak_ratio, 4),
                 "cavity_m3": _r(p.cavity, 6),
                 "stopped_early": p.partial,
+                "provisional": p.provisional,
+                "ran_to_s": _r(p.ran_to, 2),
             }
             for p in w.points
         ],

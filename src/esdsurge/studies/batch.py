@@ -28,6 +28,12 @@ stopped, and a stroke search does not compare them with its neighbours' (``Point
 Runs kept whole (``keep``, e.g. the recommended setting) are never stopped. A run judged only
 for its verdict keeps two samples per series (``VERDICT_SAMPLES``): the searches use none.
 
+Horizons. A search may ask for a member to be run only to a time of its choosing (the stroke
+search: a little past the time its failing neighbours broke a limit), in batches of their own:
+a member that breaks a limit by then fails as it would whole; one that breaks none passes
+only provisionally (``Outcome.provisional``): that steers a search, but is not a verdict until
+the member is run whole.
+
 Lattices. Searched values are kept on a lattice (0.1 s for strokes, 1 m^3/h for rates), so that
 every value a search reports was simulated, and is shown exactly as it was run.
 """
@@ -43,7 +49,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from esdsurge.engine import Run, StopRule, Variant, simulate
-from esdsurge.engine.simulate import MIN_PERIODS, PERIODS_AFTER_EVENTS
+from esdsurge.engine.simulate import MIN_PERIODS, PERIODS_AFTER_EVENTS, default_duration
 from esdsurge.errors import SteadyStateError
 from esdsurge.limits import Basis
 from esdsurge.lineup import sections
@@ -76,6 +82,9 @@ MARGIN_REACH = 0.25
 #: set-up (steady state, grids, unpacking), a few milliseconds, about what two periods of one
 #: member take on the demo routes
 GROUP_COST_PERIODS = 2.0
+#: a member is run only to its horizon (:meth:`Evaluator.evaluate`) when that saves at least
+#: a tenth of its whole simulated time; else it runs whole, and its pass is a verdict
+CUT_SHARE = 0.9
 
 
 @dataclass(frozen=True)
@@ -125,6 +134,9 @@ class Outcome:
         it ran for the whole duration); the spill and the verdict are whole, the peaks,
         cavities and ``measures`` those reached by then
     check : the full verdict, kept only when asked for
+    provisional : the member was run only up to a horizon shorter than ``check`` would use
+        (``duration``) and broke no limit by then: a pass so far, not a verdict; its peaks,
+        cavities and ``measures`` are those reached by then (see :meth:`Evaluator.evaluate`)
     """
 
     possible: bool
@@ -141,6 +153,7 @@ class Outcome:
     problem: str | None = None
     stopped: float | None = None
     check: CaseCheck | None = None
+    provisional: bool = False
 
 
 def summarise(cc: CaseCheck, atmosphere_abs: float, label: str, duration: float) -> Outcome:
@@ -209,7 +222,10 @@ def impossible(problem: str, label: str) -> Outcome:
 
 
 def duration_groups(
-    ends: Sequence[float], period: float, max_groups: int = MAX_GROUPS
+    ends: Sequence[float],
+    period: float,
+    max_groups: int = MAX_GROUPS,
+    durations: Sequence[float] | None = None,
 ) -> list[list[int]]:
     """Split members into batches of similar simulated time, at least cost.
 
@@ -218,6 +234,7 @@ def duration_groups(
     ends : end of the last event of each member [s]
     period : pipeline period of the route [s]
     max_groups : most batches
+    durations : the simulated time of each member [s], in place of the one its end gives
 
     Returns
     -------
@@ -232,12 +249,14 @@ def duration_groups(
     >>> duration_groups([1.0, 2.0], 3.0)
     [[0, 1]]
     """
-    order = sorted(range(len(ends)), key=lambda i: ends[i])
+    floor = MIN_PERIODS * period
+    if durations is None:
+        durations = [max(floor, e + PERIODS_AFTER_EVENTS * period) for e in ends]
+    order = sorted(range(len(durations)), key=lambda i: durations[i])
     if not order:
         return []
-    floor = MIN_PERIODS * period
     extra = GROUP_COST_PERIODS * period
-    dur = [max(floor, ends[i] + PERIODS_AFTER_EVENTS * period) for i in order]
+    dur = [durations[i] for i in order]
     n = len(order)
     inf = math.inf
     # best[g][j]: least cost of the first j members in g batches (contiguous in sorted order)
@@ -306,6 +325,15 @@ class Evaluator:
         """End of the case's last event with ``variant``'s strokes [s]."""
         return max((self._end(ev, variant) for ev in self.case.events), default=0.0)
 
+    def whole_duration(self, variant: Variant) -> float:
+        """About the simulated time ``check`` gives ``variant`` [s]: the case's ``duration``,
+        else :func:`~esdsurge.engine.simulate.default_duration` on the route's period as the
+        file gives its wave speeds (the engine's own grid may differ by the wave-speed
+        adjustment, and a band member by its wave-speed scale)."""
+        if self.case.duration is not None:
+            return self.case.duration
+        return default_duration([self.period], [self.event_end(variant)])
+
     # -- running ------------------------------------------------------------------------------
 
     def _steady(
@@ -348,15 +376,22 @@ class Evaluator:
         )
 
     def _simulate(
-        self, variants: Sequence[Variant], stop: bool = False, no_spill: Sequence[bool] = ()
+        self,
+        variants: Sequence[Variant],
+        stop: bool = False,
+        no_spill: Sequence[bool] = (),
+        duration: float | None = None,
     ) -> Run:
         """Run ``variants``; with ``stop``, judged only for the verdict: failing members stop
         early (those marked in ``no_spill`` even before their valve has shut, for a cavity)
-        and the series keep ``VERDICT_SAMPLES`` samples."""
+        and the series keep ``VERDICT_SAMPLES`` samples. ``duration``: the simulated time
+        (default: the engine's, as ``check`` runs it)."""
         extra: dict[str, object] = {}
         if stop:
             rule = self.stop_rule(variants, no_spill or None)
             extra = {"stop": rule, "samples": VERDICT_SAMPLES}
+        if duration is not None:
+            extra["duration"] = duration
         return simulate(
             self.route,
             self.fluid,
@@ -367,9 +402,10 @@ class Evaluator:
             **extra,  # type: ignore[arg-type]
         )
 
-    def _judge(self, run: Run, member: int, keep: bool) -> Outcome:
-        """The verdict on ``member``; a member stopped before its valve had shut has no
-        spill (``None``): only part of it had passed."""
+    def _judge(self, run: Run, member: int, keep: bool, cut: bool = False) -> Outcome:
+        """The verdict on ``member``; a member stopped, or run (``cut``) only to a time,
+        before its valve had shut has no spill (``None``): only part of it had passed. A
+        ``cut`` member that broke nothing is ``provisional``."""
         steady = run.steady[member]
         derived = CaseDerived(
             self.case,
@@ -382,18 +418,26 @@ class Evaluator:
         )
         cc = judge(self.terminal, self.case, derived, run, member=member)
         stopped = float(run.stopped[member])  # NaN: not stopped
-        if stopped < self.shut_time(run.variants[member]) + float(run.dt[member]):
+        ended = run.duration if cut and math.isnan(stopped) else stopped
+        if ended < self.shut_time(run.variants[member]) + float(run.dt[member]):
             cc = dataclasses.replace(cc, spill=None, spill_ok=None)
         out = summarise(cc, self.atmosphere_abs, run.variants[member].label, run.duration)
+        if cut and out.limits_ok:
+            out = dataclasses.replace(out, provisional=True)
         return dataclasses.replace(out, check=cc) if keep else out
 
     def _run_group(
-        self, variants: list[Variant], keep: bool, no_spill: Sequence[bool] = ()
+        self,
+        variants: list[Variant],
+        keep: bool,
+        no_spill: Sequence[bool] = (),
+        duration: float | None = None,
     ) -> list[Outcome]:
         """Run one batch; members found to have no steady state are left out (and noted).
-        Without ``keep``, a member that has broken a limit for good is stopped early."""
+        Without ``keep``, a member that has broken a limit for good is stopped early. With a
+        ``duration`` (a horizon), the batch runs that long and its passes are provisional."""
         try:
-            run = self._simulate(variants, stop=not keep, no_spill=no_spill)
+            run = self._simulate(variants, stop=not keep, no_spill=no_spill, duration=duration)
         except SteadyStateError:
             for v in {self._key(v): v for v in variants}.values():
                 self._probe(v)
@@ -402,11 +446,12 @@ class Evaluator:
                 raise
             rest = [variants[i] for i in kept]
             free = [no_spill[i] for i in kept] if no_spill else []
-            return self._run_group(rest, keep, free) if rest else []
+            return self._run_group(rest, keep, free, duration) if rest else []
         self.passes += 1
         self.members += len(variants)
         self.node_updates += int(getattr(run, "node_updates", 0))
-        return [self._judge(run, i, keep) for i in range(len(variants))]
+        cut = duration is not None
+        return [self._judge(run, i, keep, cut) for i in range(len(variants))]
 
     @staticmethod
     def _key(v: Variant) -> tuple:
@@ -433,6 +478,7 @@ class Evaluator:
         variants: Sequence[Variant],
         keep: bool = False,
         no_spill: Sequence[bool] | None = None,
+        horizons: Sequence[float | None] | None = None,
     ) -> list[Outcome]:
         """Run and judge ``variants``; one :class:`Outcome` each, in order.
 
@@ -440,6 +486,10 @@ class Evaluator:
         ``keep`` keeps each member's full :class:`~esdsurge.studies.check.CaseCheck`.
         ``no_spill`` marks the members whose spill the caller does not need: one that forms a
         counted cavity stops then, though its valve has not shut, and has no spill.
+        ``horizons`` gives, per member, a time [s] (``None``: none) to which it is enough to
+        run it for now: a member whose horizon is well short of its whole simulated time
+        (below ``CUT_SHARE`` of :meth:`whole_duration`) runs only that far, in batches of its
+        own, and a pass by then is ``provisional`` (a failure is a failure). Not with ``keep``.
         """
         variants = list(variants)
         results: list[Outcome | None] = [None] * len(variants)
@@ -449,15 +499,28 @@ class Evaluator:
                 results[i] = impossible(self._impossible[self._key(v)], v.label)
             else:
                 todo.append(i)
+        cut: dict[int, float] = {}
+        if horizons is not None and not keep:
+            for i in todo:
+                h = horizons[i]
+                if h is not None and h < CUT_SHARE * self.whole_duration(variants[i]):
+                    cut[i] = h
+        whole = [i for i in todo if i not in cut]
+        short = [i for i in todo if i in cut]
+        groups: list[tuple[list[int], float | None]] = []
         if self.case.duration is not None:
-            groups = [todo] if todo else []
+            groups = [(whole, None)] if whole else []
         else:
-            ends = [self.event_end(variants[i]) for i in todo]
-            groups = [[todo[k] for k in g] for g in duration_groups(ends, self.period)]
+            ends = [self.event_end(variants[i]) for i in whole]
+            groups = [([whole[k] for k in g], None) for g in duration_groups(ends, self.period)]
+        durs = [cut[i] for i in short]
+        for g in duration_groups([], self.period, durations=durs):
+            groups.append(([short[k] for k in g], max(durs[k] for k in g)))
 
-        def work(group: list[int]) -> list[tuple[int, Outcome]]:
+        def work(job: tuple[list[int], float | None]) -> list[tuple[int, Outcome]]:
+            group, duration = job
             free = [no_spill[i] for i in group] if no_spill is not None else []
-            outs = iter(self._run_group([variants[i] for i in group], keep, free))
+            outs = iter(self._run_group([variants[i] for i in group], keep, free, duration))
             done = []
             for i in group:
                 key = self._key(variants[i])
@@ -601,8 +664,10 @@ class Point:
     largest counted vapour cavity [m^3]; breaches : what the members break; measures : per
     element, the largest over the members of ``(peak over limit - 1, shortfall below the
     minimum [atm], cavity [m^3])`` (see :class:`Outcome`); partial : a member was stopped
-    early (a limit broken for good), so ``peak_ratio``, ``cavity`` and ``measures`` are those
-    reached by then: at least, not at most
+    early (a limit broken for good), or run only to a horizon, so ``peak_ratio``, ``cavity``
+    and ``measures`` are those reached by then: at least, not at most; provisional : ``ok``
+    only so far: a member was run only to a horizon (``ran_to`` [s], the shortest such) and
+    broke nothing by then (:meth:`Evaluator.evaluate`); not a verdict until run whole
     """
 
     value: float
@@ -615,6 +680,8 @@ class Point:
         default_factory=dict, compare=False, repr=False
     )
     partial: bool = False
+    provisional: bool = False
+    ran_to: float | None = None
 
 
 def points_of(
@@ -625,7 +692,8 @@ def points_of(
     """The samples in which every member of ``members`` was run, as points of one track.
 
     A point is ``ok`` when every member that can run is ``ok`` (by default: keeps every
-    pressure limit), and not when none can run.
+    pressure limit), and not when none can run; an ``ok`` point is ``provisional`` when a
+    member's pass is.
     """
     out = []
     for v in sorted(samples):
@@ -645,6 +713,7 @@ def points_of(
                     max(old[2], cav),
                 )
         ok_ = bool(runs) and all(ok(o) for o in runs)
+        cut = [o.duration for o in runs if o.provisional]
         out.append(
             Point(
                 value=v,
@@ -654,7 +723,9 @@ def points_of(
                 cavity=max((o.cavity for o in runs), default=0.0),
                 breaches=() if ok_ else tuple(b for o in runs for b in o.breaches),
                 measures=measures,
-                partial=any(o.stopped is not None for o in runs),
+                partial=any(o.stopped is not None or o.provisional for o in runs),
+                provisional=ok_ and bool(cut),
+                ran_to=min(cut) if ok_ and cut else None,
             )
         )
     return out

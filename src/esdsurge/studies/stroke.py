@@ -40,6 +40,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from esdsurge.engine import Variant
 from esdsurge.errors import UsageError
 from esdsurge.model import Case, Close, Coupling, Release, Terminal
 from esdsurge.physics import handcalc
@@ -70,6 +71,12 @@ COARSE = 12
 MARGIN = 0.2
 #: most refinement passes
 MAX_PASSES = 30
+#: a refinement sample runs only until a little after its failing neighbours broke their
+#: limits (:func:`stroke_window`'s ``horizon``): their stop time, stretched by this share ...
+HORIZON_SHARE = 0.05
+#: ... plus this many pipeline periods; a pass by then steers the search, and a sample that
+#: becomes an end of the window is run whole before it is reported
+HORIZON_PERIODS = 1.0
 #: what ``stage`` may be: the whole stroke, or the last stage of a staged closure
 STAGES = ("whole", "slow")
 
@@ -522,7 +529,8 @@ def stroke_window(
     The coarse scan runs in two steps: its longer half first, its shorter half only when the
     window may reach into it (no failing stroke was found below a passing one). Strokes below
     the longest failing stroke under the window are not explored. The file's own stroke (or
-    slow stage) is always among the scanned values.
+    slow stage) is always among the scanned values. A refinement sample runs first only to a
+    horizon (``horizon``); the ends of a window are run whole before it is reported.
     """
     t_start = time.perf_counter()
     if stage not in STAGES:
@@ -634,33 +642,87 @@ def stroke_window(
                 return True
         return False
 
-    def run(requests: dict[float, set[int]], keep: bool = False) -> list[Outcome]:
+    def horizon(v: float, m: int, variant: Variant, no_spill: bool) -> float | None:
+        """How far member ``m`` at ``v`` must run for the search to steer by it [s], or
+        ``None`` (run whole): past the time at which its nearest samples on either side that
+        break a limit were stopped, stretched with the stroke and by ``HORIZON_SHARE``, plus
+        ``HORIZON_PERIODS`` periods; past its shut when its spill is needed. A pass by then is
+        provisional: an end of the window is run whole before it is reported. A sample next
+        to a failing one on the lattice runs whole: if it passes, it is an end."""
+        runs = {u: o[m] for u, o in samples.items() if o[m] is not None and o[m].possible}
+        below = [u for u in runs if u < v]
+        above = [u for u in runs if u > v]
+        near = ([max(below)] if below else []) + ([min(above)] if above else [])
+        times = []
+        for u in near:
+            o = runs[u]
+            if o.limits_ok:
+                continue
+            if o.stopped is None or abs(u - v) < STEP * 1.5:
+                # broke a limit over its whole run (when is not kept here); or next to ``v``
+                # on the lattice, so that ``v`` is an end of the window if it passes
+                return None
+            stretch = max(1.0, v / u) if u > 0.0 else 1.0
+            times.append(o.stopped * stretch * (1.0 + HORIZON_SHARE) + HORIZON_PERIODS * ev.period)
+        spill_fail = any(runs[u].spill_ok is False for u in near)
+        if not times and not spill_fail:
+            return None
+        if not no_spill:
+            times.append(ev.shut_time(variant) + ev.period)
+        return max(times)
+
+    def run(
+        requests: dict[float, set[int]], keep: bool = False, whole: bool = False
+    ) -> list[Outcome]:
+        """Run the requested members not yet run (with ``keep``, all of them, kept whole;
+        with ``whole``, also those run only provisionally); the others up to their
+        :func:`horizon`."""
         todo = [
             (v, m)
             for v, ms in sorted(requests.items())
             for m in sorted(ms)
-            if v not in samples or samples[v][m] is None or keep
+            if v not in samples
+            or samples[v][m] is None
+            or keep
+            or (whole and samples[v][m].provisional)  # type: ignore[union-attr]
         ]
         variants = [band_members[m].variant(**changes(v)) for v, m in todo]
         no_spill = [spill_not_needed(v, m) for v, m in todo]
-        outs = ev.evaluate(variants, keep=keep, no_spill=no_spill) if variants else []
+        horizons = (
+            None
+            if keep or whole
+            else [
+                horizon(v, m, var, free)
+                for (v, m), var, free in zip(todo, variants, no_spill, strict=True)
+            ]
+        )
+        outs = (
+            ev.evaluate(variants, keep=keep, no_spill=no_spill, horizons=horizons)
+            if variants
+            else []
+        )
         for (v, m), out in zip(todo, outs, strict=True):
             samples.setdefault(v, [None] * len(band_members))[m] = out
         return outs
 
-    tracks = [Track(case.spill_limit, code_top, scan_top) for _ in tracks_members]
-    if code_top is None or code_top >= floor - 1e-9:
-        n = max(coarse, math.ceil(math.log2(max(scan_top, floor) / floor)) + 1)
-        coarse_pts = geometric_lattice(floor, max(scan_top, floor), n, STEP)
-        half = len(coarse_pts) // 2
-        lower, upper = coarse_pts[:half], coarse_pts[half:]
-        # the file's own stroke (slow stage) is always run: a window around it must not hide
-        # between samples
-        own = on_lattice(stroke_file - t_fast, STEP)
-        if own is not None and floor <= own <= scan_top and own not in coarse_pts:
-            upper = sorted([*upper, own])
-        run({v: set(all_members) for v in upper})
-        lower_scanned = not lower
+    def provisional_ends() -> dict[float, set[int]]:
+        """The ends of the windows found so far whose pass is only provisional."""
+        req: dict[float, set[int]] = {}
+        for tr, ms in zip(tracks, tracks_members, strict=True):
+            ends = [tr.fast, tr.surge_top]
+            if tr.spill_top is not None and tr.spill_top <= tr.top + 1e-9:
+                ends.append(tr.spill_top)
+            for v in ends:
+                if v is not None and any(
+                    o is not None and o.provisional for o in (samples[v][m] for m in ms)
+                ):
+                    req.setdefault(v, set()).update(ms)
+        return req
+
+    def refine_ends(lower_scanned: bool, cut_in_three: bool) -> None:
+        """Refine every track's ends until none asks for more and every end is run whole
+        (``lower_scanned``: the coarse scan's shorter half has run; ``cut_in_three``: a
+        lone halving runs as two samples, see ``alone``)."""
         for _ in range(MAX_PASSES):
             req: dict[float, set[int]] = {}
             for tr, ms in zip(tracks, tracks_members, strict=True):
@@ -672,11 +734,30 @@ def stroke_window(
                     req.setdefault(v, set()).update(all_members)
                 lower_scanned = True
             if not req:
-                break
-            if alone and len(req) == 1 and len(band_members) == 1 and (os.cpu_count() or 1) > 1:
+                req = provisional_ends()
+                if not req:
+                    break
+                run(req, whole=True)
+                continue
+            if cut_in_three and len(req) == 1 and len(band_members) == 1:
                 # one stroke would leave a processor idle: cut its bracket in three instead
                 req = {v: set(all_members) for v in tracks[0].thirds()} or req
             run(req)
+
+    tracks = [Track(case.spill_limit, code_top, scan_top) for _ in tracks_members]
+    lower: list[float] = []  # the coarse scan's shorter half
+    if code_top is None or code_top >= floor - 1e-9:
+        n = max(coarse, math.ceil(math.log2(max(scan_top, floor) / floor)) + 1)
+        coarse_pts = geometric_lattice(floor, max(scan_top, floor), n, STEP)
+        half = len(coarse_pts) // 2
+        lower, upper = coarse_pts[:half], coarse_pts[half:]
+        # the file's own stroke (slow stage) is always run: a window around it must not hide
+        # between samples
+        own = on_lattice(stroke_file - t_fast, STEP)
+        if own is not None and floor <= own <= scan_top and own not in coarse_pts:
+            upper = sorted([*upper, own])
+        run({v: set(all_members) for v in upper})
+        refine_ends(not lower, alone and (os.cpu_count() or 1) > 1)
 
     def finish(i: int) -> Window:
         return _window(
@@ -722,15 +803,7 @@ def stroke_window(
             break
         # the recommended stroke failed where the samples around it passed: a gap between
         # samples; refine the moved window and choose again
-        for _ in range(MAX_PASSES):
-            req = {}
-            for tr, ms in zip(tracks, tracks_members, strict=True):
-                tr.update(points_of(samples, ms), True)
-                for v in tr.requests:
-                    req.setdefault(v, set()).update(ms)
-            if not req:
-                break
-            run(req)
+        refine_ends(True, False)
         windows = [finish(i) for i in range(len(tracks))]
     rec_final = None
     for i, w in enumerate(windows):

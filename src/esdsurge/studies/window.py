@@ -187,7 +187,8 @@ def worse_places(points: list[Point], top: float) -> list[str]:
     pressure that rises by more than ``WORSE_RATIO`` of its limit (neighbouring samples that
     rise are taken together). Peaks and cavities are compared only where the shorter stroke
     ran whole, and rises only between strokes that both did (a stopped member's figures are
-    those reached when it stopped, :class:`~esdsurge.studies.batch.Point`)."""
+    those reached when it stopped, :class:`~esdsurge.studies.batch.Point`); a provisional pass
+    says how far it was run."""
     out: list[str] = []
     pts = [p for p in points if p.value <= top + 1e-9]
     rise: list[Point] = []
@@ -205,7 +206,10 @@ def worse_places(points: list[Point], top: float) -> list[str]:
         if p.ok and not q.ok:
             flush()
             what = q.breaches[0].describe() if q.breaches else "a limit breaks"
-            out.append(f"{p.value:g} s keeps every limit but {q.value:g} s does not: {what}")
+            keeps = "keeps every limit"
+            if p.provisional and p.ran_to is not None:
+                keeps += f" as far as it was run ({p.ran_to:.1f} s)"
+            out.append(f"{p.value:g} s {keeps} but {q.value:g} s does not: {what}")
         elif not p.partial and p.cavity <= CAVITY_THRESHOLD < q.cavity:
             flush()
             out.append(
