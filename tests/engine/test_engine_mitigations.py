@@ -340,3 +340,20 @@ def test_a_member_without_the_mitigations_runs_as_if_they_were_not_there(eng):
     j = route.index("line")
     assert both.p_min_abs[1, j] == pytest.approx(alone.p_min_abs[0, j], rel=1e-9)
     assert both.p_min_abs[0, j] > both.p_min_abs[1, j]
+
+
+def test_a_member_resumed_from_its_state_runs_as_a_whole_run(eng):
+    # the relief valve's opening, the accumulator's gas and the volumes into both go on from
+    # the kept state through the same steps as a run from the start (a property of the
+    # engine, no outside source)
+    both = (_relief(eng, 90.0, 0.05), _accumulator(0.3, 3e5, loss=1.5))
+    route = _route(eng, both)
+    whole = simulate(route, eng.WATER_20C, _case(0.2, 10.0), samples=2)
+    part = simulate(route, eng.WATER_20C, _case(0.2, 3.7), samples=2, keep_state=True)
+    on = simulate(route, eng.WATER_20C, _case(0.2, 10.0), samples=2, resume=part.states)
+    for name in ("p_max_abs", "p_min_abs", "t_p_max", "branch_flow_max", "branch_state_min",
+                 "branch_state_max", "branch_time_over_capacity"):  # fmt: skip
+        assert np.array_equal(getattr(on, name), getattr(whole, name)), name
+    assert np.allclose(on.branch_volume, whole.branch_volume, rtol=1e-12, atol=1e-15)
+    assert np.allclose(on.volume_through, whole.volume_through, rtol=1e-12, atol=1e-15)
+    assert part.node_updates + on.node_updates == whole.node_updates

@@ -30,7 +30,9 @@ def test_a_member_run_to_a_horizon_fails_as_whole_or_passes_provisionally(jetty)
     case = jetty.cases[0]  # loading, shore ESD valve closes at 1 s (spill limit 6 m3)
     ev = Evaluator(jetty, case, concurrent=False)
     variants = [Variant(strokes=((VALVE, s),)) for s in (10.5, 40.0)]
+    n0 = ev.node_updates
     whole = ev.evaluate(variants, keep=True)
+    n_whole = ev.node_updates - n0  # both members, each run whole
     assert [o.limits_ok for o in whole] == [False, True]
     assert not any(o.provisional for o in whole)
     # 10.5 s forms a cavity before its valve has shut (11.5 s): within a 30 s horizon
@@ -47,6 +49,14 @@ def test_a_member_run_to_a_horizon_fails_as_whole_or_passes_provisionally(jetty)
     assert passed.duration == pytest.approx(20.0)
     assert passed.spill is None and passed.spill_ok is None
     assert passed.peak_ratio <= whole[1].peak_ratio
+    # run whole from where it was left: the verdict and figures of the whole run
+    n0 = ev.node_updates
+    (on,) = ev.evaluate(variants[1:], resume=[passed])
+    assert not on.provisional and on.limits_ok and on.stopped is None
+    assert on.peak_ratio == whole[1].peak_ratio and on.measures == whole[1].measures
+    assert on.spill == pytest.approx(whole[1].spill, rel=1e-12)
+    # the steps to 20 s are not run again: less than half of the two whole runs' work
+    assert ev.node_updates - n0 < 0.5 * n_whole
     # a horizon that saves less than a tenth of the run is not used: the run is whole
     near_whole = CUT_SHARE * ev.whole_duration(variants[1]) + 0.5
     (full,) = ev.evaluate(variants[1:], horizons=[near_whole])

@@ -77,7 +77,9 @@ STOP_SLACK = 1e-6
 STOP_EVERY = 32
 
 # argument groups of kernel.run_members (tuples of arrays, in this order)
-MEMBERS = ("dt_all", "nsteps_all", "n_nodes_all", "qscale_all")
+#: start_all: the step a member resumes from (0: from its state before the trigger; see
+#: ``RESUMED``)
+MEMBERS = ("dt_all", "nsteps_all", "n_nodes_all", "qscale_all", "start_all")
 GRID = ("line_start", "line_n", "line_b", "line_r", "hv_all", "h_init", "q_init")
 CONNECTIONS = (
     "conn_left",
@@ -120,6 +122,44 @@ OUTPUTS = (
     "ser_bs",
     "br_out",
     "stopped",  # per member, the step at which it stopped (0: it ran to the end)
+    # the rest of the state after the last step (with h_end and vol_end), so that a member can
+    # resume from it: the flows at the nodes, the connections' flows, the devices' working
+    # values and table rows, the chain heads; and what the volumes through the probes and into
+    # the branches gained over the last step beyond the duration
+    "qu_end",
+    "qd_end",
+    "qconn_end",
+    "qconr_end",
+    "work_end",
+    "row_end",
+    "pth_end",
+    "vol_rest",
+    "brvol_rest",
+)
+#: the outputs that a resumed member starts from (copied in from the run it resumes, member by
+#: member); the series are not among them: a resumed member's samples up to its start are NaN
+RESUMED = (
+    "env_hmax",
+    "env_kmax",
+    "env_hmin",
+    "env_kmin",
+    "env_vmax",
+    "env_kv",
+    "pt_hmax",
+    "pt_kmax",
+    "pt_hmin",
+    "pt_kmin",
+    "vol_through",
+    "h_end",
+    "vol_end",
+    "br_out",
+    "qu_end",
+    "qd_end",
+    "qconn_end",
+    "qconr_end",
+    "work_end",
+    "row_end",
+    "pth_end",
 )
 #: columns of br_out[member, branch, :]
 B_VOL, B_QMAX, B_KQMAX, B_SMIN, B_SMAX, B_SAT = range(6)

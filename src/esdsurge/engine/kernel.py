@@ -220,9 +220,10 @@ def _sample(ser, b, j, old, new, k, nsamp, sample_dt, t, t_old, dt, tol):
 
 @njit(cache=True, error_model="numpy")
 def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out):
-    """The whole time loop of batch member ``b``: its state before the trigger here, the
-    steps in :func:`_steps`."""
-    dt_all, nsteps_all, n_nodes_all, qscale_all = members
+    """The whole time loop of batch member ``b``: its state before the trigger here (or, for a
+    member that resumes, ``start_all[b] > 0``, the state its outputs were filled with: see
+    ``codes.RESUMED``), the steps in :func:`_steps`."""
+    dt_all, nsteps_all, n_nodes_all, qscale_all, start_all = members
     line_start, line_n, line_b, line_r, hv_all, h_init, q_init = grid
     kind, dev_par, tab_t, tab_a, tab_n, pump_dev, br_dev = devices
     ser_h, ser_q, ser_s, hmax_all, kmax_all, hmin_all, kmin_all, vmax_all, kv_all = out[:9]
@@ -235,6 +236,9 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, stops
     nprobe = probes[0].shape[0]
     npump = pump_dev.shape[0]
     nbr = br_dev.shape[0]
+    if start_all[b] > 0:
+        _resume(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out)
+        return
 
     # state, double-buffered; per line, the stretch holding cavities (NONE: none)
     h0 = h_init[b, :nn].copy()
@@ -297,6 +301,64 @@ def _member(b, cav_on, g, duration, members, grid, conns, devices, probes, stops
            bs)  # fmt: skip
 
 
+@njit(cache=True, error_model="numpy")
+def _resume(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out):
+    """Member ``b`` from the state after step ``start_all[b]`` that its outputs hold (copied in
+    from the run it resumes, ``codes.RESUMED``): the same steps as a whole run from there."""
+    n_nodes_all = members[2]
+    line_start, line_n = grid[0], grid[1]
+    pump_dev, br_dev = devices[5], devices[6]
+    hmax_all, kmax_all, hmin_all, kmin_all, vmax_all, kv_all = out[3:9]
+    h_end, vol_end = out[14], out[15]
+    qu_end, qd_end, qconn_end, qconr_end, work_end, row_end, pth_end = out[20:27]
+    nn = n_nodes_all[b]
+    nlines = line_start.shape[1]
+    nprobe = probes[0].shape[0]
+    npump = pump_dev.shape[0]
+    nbr = br_dev.shape[0]
+    h0 = h_end[b, :nn].copy()
+    qu0 = qu_end[b, :nn].copy()
+    qd0 = qd_end[b, :nn].copy()
+    h1 = h0.copy()
+    qu1 = qu0.copy()
+    qd1 = qd0.copy()
+    vol = vol_end[b, :nn].copy()
+    hv = grid[4][b]
+    # the stretch of each line holding cavities: only the cavitating update leaves a volume
+    spans = np.empty((nlines, 2), dtype=np.int64)
+    for ln in range(nlines):
+        spans[ln, 0] = NONE
+        spans[ln, 1] = -1
+        st = line_start[b, ln]
+        for i in range(1, line_n[b, ln]):
+            if vol[st + i] > 0.0:
+                spans[ln, 0] = min(spans[ln, 0], i)
+                spans[ln, 1] = i
+    envelope = (hmax_all[b], kmax_all[b], hmin_all[b], kmin_all[b], vmax_all[b], kv_all[b])
+    q_conn = qconn_end[b].copy()
+    q_conr = qconr_end[b].copy()
+    work = work_end[b].copy()
+    row = row_end[b].copy()
+    pth = pth_end[b].copy()
+    pr_h = np.zeros(nprobe)
+    pr_q = np.zeros(nprobe)
+    for p in range(nprobe):
+        pr_h[p], pr_q[p] = _probe(p, b, h0, qu0, qd0, pth, q_conn, q_conr, probes)
+    q_in = pr_q[0::2].copy()
+    ps = np.zeros(max(npump, 1))
+    for k in range(npump):
+        ps[k] = work[W_S, pump_dev[k]]
+    bq = np.zeros(max(nbr, 1))
+    bs = np.zeros(max(nbr, 1))
+    for j in range(nbr):
+        bq[j] = work[W_QS, br_dev[j]]
+        bs[j] = work[W_X, br_dev[j]]
+    state = (h0, qu0, qd0, h1, qu1, qd1, hv, vol)
+    _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out, state,
+           envelope, spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
+           bs)  # fmt: skip
+
+
 @njit(cache=True, _nrt=False, error_model="numpy")
 def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops, out, state,
            envelope, spans, q_conn, q_conr, work, row, pth, pr_h, pr_q, q_in, ps, bq,
@@ -311,10 +373,12 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
     allocates nothing, and the atomic reference counts of the arrays that pass through its
     calls would otherwise take about half of the time of a step.
     """
-    dt_all, nsteps_all, n_nodes_all, qscale_all = members
+    dt_all, nsteps_all, n_nodes_all, qscale_all, start_all = members
     line_start, line_n, line_b, line_r = grid[0], grid[1], grid[2], grid[3]
     kind, dev_par, tab_t, tab_a, tab_n, pump_dev, br_dev = devices
     ser_h, ser_q, ser_s = out[0], out[1], out[2]
+    qu_end, qd_end, qconn_end, qconr_end, work_end, row_end, pth_end = out[20:27]
+    vol_rest, brvol_rest = out[27], out[28]
     pt_hmax, pt_kmax, pt_hmin, pt_kmin, vol_through, h_end, vol_end = out[9:16]
     ser_bq, ser_bs, br_out, stopped = out[16:20]
     stop_step, stop_cstep = stops[0], stops[6]
@@ -329,12 +393,15 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
     nsamp = ser_h.shape[2]
     npump = pump_dev.shape[0]
     nbr = br_dev.shape[0]
-    next_sample = 1
     sample_dt = duration / (nsamp - 1)
     tol = 1e-12 * dt
+    n0 = start_all[b]
+    t = n0 * dt
+    next_sample = 1
+    while next_sample < nsamp and next_sample * sample_dt <= t + tol:
+        next_sample += 1
 
-    t = 0.0
-    for n in range(1, nsteps_all[b] + 1):
+    for n in range(n0 + 1, nsteps_all[b] + 1):
         t_old = t
         t = n * dt
         update_devices(b, t, dt, g, kind, dev_par, tab_t, tab_a, tab_n, row, work)
@@ -361,10 +428,13 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
                 q_in[e] = _probe(2 * e, b, h1, qu1, qd1, pth, q_conn, q_conr, probes)[1]
                 q_end = q_old + w_end * (q_in[e] - q_old)
                 vol_through[b, 2 * e] += 0.5 * (q_old + q_end) * w_end * dt
+                # the rest of a last step beyond the duration (for a member that resumes)
+                vol_rest[b, 2 * e] = 0.5 * (q_end + q_in[e]) * (1.0 - w_end) * dt
             for j in range(nbr):
                 q_new = work[W_QS, br_dev[j]]
                 q_end = bq[j] + w_end * (q_new - bq[j])
                 br_out[b, j, B_VOL] += 0.5 * (bq[j] + q_end) * w_end * dt
+                brvol_rest[b, j] = 0.5 * (q_end + q_new) * (1.0 - w_end) * dt
         for j in range(nbr):
             d = br_dev[j]
             q_new = work[W_QS, d]
@@ -425,6 +495,17 @@ def _steps(b, cav_on, g, duration, members, grid, conns, devices, probes, stops,
     for i in range(nn):
         h_end[b, i] = h0[i]
         vol_end[b, i] = vol[i]
+        qu_end[b, i] = qu0[i]
+        qd_end[b, i] = qd0[i]
+    for c in range(q_conn.shape[0]):
+        qconn_end[b, c] = q_conn[c]
+        qconr_end[b, c] = q_conr[c]
+    for d in range(work.shape[1]):
+        row_end[b, d] = row[d]
+        for k in range(work.shape[0]):
+            work_end[b, k, d] = work[k, d]
+    for p in range(pth.shape[0]):
+        pth_end[b, p] = pth[p]
     for j in range(nbr):
         br_out[b, j, B_SAT] = work[W_SAT, br_dev[j]] * dt
 
@@ -476,7 +557,15 @@ def no_stops(nb: int, nnode: int, npts: int, nsteps: np.ndarray) -> dict:
 
 
 def empty_outputs(
-    nb: int, nnode: int, npts: int, nprobe: int, npump: int, nsamp: int, nbranch: int = 0
+    nb: int,
+    nnode: int,
+    npts: int,
+    nprobe: int,
+    npump: int,
+    nsamp: int,
+    nbranch: int = 0,
+    nconn: int = 1,
+    ndev: int = 1,
 ) -> dict:
     """Allocate the kernel's output arrays (see ``codes.OUTPUTS``)."""
     f, i = np.float64, np.int64
@@ -501,6 +590,15 @@ def empty_outputs(
         "ser_bs": np.zeros((nb, nbranch, nsamp), f),
         "br_out": np.zeros((nb, nbranch, N_BR_OUT), f),
         "stopped": np.zeros(nb, i),
+        "qu_end": np.zeros((nb, nnode), f),
+        "qd_end": np.zeros((nb, nnode), f),
+        "qconn_end": np.zeros((nb, nconn), f),
+        "qconr_end": np.zeros((nb, nconn), f),
+        "work_end": np.zeros((nb, N_WORK, ndev), f),
+        "row_end": np.zeros((nb, ndev), i),
+        "pth_end": np.zeros((nb, npts), f),
+        "vol_rest": np.zeros((nb, nprobe), f),
+        "brvol_rest": np.zeros((nb, nbranch), f),
     }
 
 

@@ -115,6 +115,21 @@ class Envelope:
 
 
 @dataclass(frozen=True, kw_only=True, eq=False)
+class MemberState:
+    """The whole state of one member after its last step, from which a later run of the same
+    variant (same grid and time step) resumes (``simulate(resume=...)``): the same steps as a
+    run from the start, on to a longer duration.
+
+    step : the last step run [-]; dt : its time step [s]; arrays : the kernel's outputs of the
+    member that a resumed run starts from (``codes.RESUMED``), each without its padding
+    """
+
+    step: int
+    dt: float
+    arrays: dict[str, np.ndarray] = field(repr=False)
+
+
+@dataclass(frozen=True, kw_only=True, eq=False)
 class Run:
     """Result of one pass of the engine over a batch of variants of one case.
 
@@ -170,6 +185,8 @@ class Run:
     node_updates : grid nodes times time steps run, summed over the members [-]
     loop_seconds : wall time of the compiled time loop for the whole batch [s]
     steady : the steady state of each member (``esdsurge.steady.SteadyState``)
+    states : with ``simulate(keep_state=True)``, each member's :class:`MemberState` after its
+        last step (``None`` for a member that was stopped); else empty
     """
 
     case: str
@@ -221,6 +238,7 @@ class Run:
     node_updates: int
     loop_seconds: float
     steady: tuple[object, ...] = field(repr=False)
+    states: tuple[MemberState | None, ...] = field(default=(), repr=False)
 
     @property
     def batch(self) -> int:

@@ -36,7 +36,7 @@ from esdsurge.physics import mitigations
 
 from . import codes
 from . import grid as g
-from .run import Envelope, Run, StopRule, Variant
+from .run import Envelope, MemberState, Run, StopRule, Variant
 
 #: default duration: at least this many pipeline periods (2 sum(L/a) over the route) ...
 MIN_PERIODS = 10.0
@@ -110,6 +110,8 @@ def simulate(
     samples: int = 2000,
     steady: Callable[..., object] | None = None,
     stop: StopRule | None = None,
+    keep_state: bool = False,
+    resume: Sequence[MemberState | None] | None = None,
 ) -> Run:
     """Transient of a case after its trigger, for a batch of variants in one pass.
 
@@ -133,6 +135,12 @@ def simulate(
         default that one
     stop : when a member may end early, once it has broken a limit for good (a search that
         needs only the verdict); default never
+    keep_state : keep each member's state after its last step (``Run.states``), so that a
+        later run can go on from it
+    resume : per member, a state kept by an earlier run of the same variant (``None``: start
+        afresh): the member goes on from it, to this run's duration, through the same steps
+        as a run from the start (none, when the state is already past the duration); its
+        series are NaN up to the state's step
 
     Returns
     -------
@@ -184,6 +192,15 @@ def simulate(
         duration = case.duration
     if duration is None:
         duration = default_duration([m.period for m in members], [m.t_end for m in members])
+    if resume is not None:
+        if len(resume) != len(members):
+            raise UsageError(f"resume: {len(resume)} states for {len(members)} members")
+        for m, r in zip(members, resume, strict=True):
+            if r is not None and r.dt != m.dt:
+                raise UsageError(
+                    f"resume: a state at a time step of {r.dt:g} s does not fit a member at "
+                    f"{m.dt:g} s (another variant)"
+                )
     return _run(
         route,
         fluid,
@@ -198,6 +215,8 @@ def simulate(
         samples,
         atmosphere_abs,
         stop,
+        keep_state,
+        resume,
     )
 
 
@@ -290,6 +309,7 @@ def _pack(lay: g.Layout, members: list[g.Member], duration: float) -> dict:
         "probe_conn": probe_conn,
         "probe_tank": probe_tank,
         "qscale_all": np.array([max(abs(m.flow), 1e-6) for m in members]),
+        "start_all": np.zeros(nb, dtype=np.int64),
     }
 
 
@@ -354,6 +374,8 @@ def _run(
     samples: int,
     atmosphere_abs: float,
     stop: StopRule | None = None,
+    keep_state: bool = False,
+    resume: Sequence[MemberState | None] | None = None,
 ) -> Run:
     from . import kernel
 
@@ -380,10 +402,18 @@ def _run(
     br_dev = np.array([dev_index[i] for i in branches], dtype=np.int64)
     nsamp = max(2, int(samples))
     nnode = arrays["hv_all"].shape[1]
+    ndev = max(len(arrays["dev_kind"]), 1)
     out = kernel.empty_outputs(
         len(members), nnode, max(lay.n_points, 1), 2 * len(els), len(pumps), nsamp,
-        len(branches),
+        len(branches), len(lay.connections), ndev,
     )  # fmt: skip
+    starts = arrays["start_all"]
+    for b, r in enumerate(resume or ()):
+        if r is None:
+            continue
+        starts[b] = r.step
+        for k, v in r.arrays.items():
+            out[k][b][tuple(slice(0, n) for n in v.shape)] = v
     arrays.update(out, pump_dev=pump_dev, br_dev=br_dev)
     npts = max(lay.n_points, 1)
     arrays.update(kernel.no_stops(len(members), nnode, npts, arrays["nsteps_all"]))
@@ -405,8 +435,24 @@ def _run(
     _launch(kernel.run_members, len(members), args)
     loop_seconds = time.perf_counter() - t0
     ran = np.where(out["stopped"] > 0, out["stopped"], arrays["nsteps_all"])
-    updates = int(np.sum(arrays["n_nodes_all"] * ran))
-    return _unpack(
+    updates = int(np.sum(arrays["n_nodes_all"] * (ran - starts)))
+    states: tuple[MemberState | None, ...] = ()
+    if keep_state:
+        states = tuple(
+            None
+            if out["stopped"][b] > 0
+            else _member_state(out, b, m, int(arrays["nsteps_all"][b]), len(els))
+            for b, m in enumerate(members)
+        )
+    if resume is not None:
+        # the samples a resumed member passed before its start are not known here
+        for b, r in enumerate(resume):
+            if r is not None:
+                late = np.arange(nsamp) * (duration / (nsamp - 1)) <= r.step * r.dt
+                late[0] = False
+                for k in ("ser_h", "ser_q", "ser_s", "ser_bq", "ser_bs"):
+                    out[k][b][..., late] = np.nan
+    run = _unpack(
         route,
         fluid,
         case,
@@ -426,6 +472,30 @@ def _run(
         updates,
         loop_seconds,
     )
+    return dataclasses.replace(run, states=states) if keep_state else run
+
+
+def _member_state(out: dict, b: int, m: g.Member, step: int, n_elements: int) -> MemberState:
+    """Member ``b``'s state after its last step (``step``), to resume from: its part of the
+    outputs in ``codes.RESUMED``, with the volumes that passed over the last step beyond the
+    duration added back, and its first samples."""
+    nn = len(m.hv)
+    arrays = {}
+    for k in codes.RESUMED:
+        v = out[k][b]
+        arrays[k] = (v[:nn] if k in _PER_NODE else v).copy()
+    arrays["vol_through"] += out["vol_rest"][b]
+    arrays["br_out"][:, codes.B_VOL] += out["brvol_rest"][b]
+    for k in ("ser_h", "ser_q", "ser_s", "ser_bq", "ser_bs"):
+        arrays[k] = out[k][b][..., :1].copy()
+    return MemberState(step=step, dt=m.dt, arrays=arrays)
+
+
+#: outputs with one value per grid node (padded to the batch's largest member)
+_PER_NODE = frozenset(
+    ("env_hmax", "env_kmax", "env_hmin", "env_kmin", "env_vmax", "env_kv", "h_end", "vol_end",
+     "qu_end", "qd_end")
+)  # fmt: skip
 
 
 def _stop_arrays(

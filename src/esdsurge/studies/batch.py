@@ -44,11 +44,12 @@ import dataclasses
 import math
 from collections.abc import Callable, Sequence
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from esdsurge.engine import Run, StopRule, Variant, simulate
+from esdsurge.engine.run import MemberState
 from esdsurge.engine.simulate import MIN_PERIODS, PERIODS_AFTER_EVENTS, default_duration
 from esdsurge.errors import SteadyStateError
 from esdsurge.limits import Basis
@@ -137,6 +138,8 @@ class Outcome:
     provisional : the member was run only up to a horizon shorter than ``check`` would use
         (``duration``) and broke no limit by then: a pass so far, not a verdict; its peaks,
         cavities and ``measures`` are those reached by then (see :meth:`Evaluator.evaluate`)
+    state : of a provisional member, the engine's state at its horizon, from which a run of
+        it whole goes on (``Evaluator.evaluate(resume=...)``)
     """
 
     possible: bool
@@ -154,6 +157,7 @@ class Outcome:
     stopped: float | None = None
     check: CaseCheck | None = None
     provisional: bool = False
+    state: MemberState | None = field(default=None, compare=False, repr=False)
 
 
 def summarise(cc: CaseCheck, atmosphere_abs: float, label: str, duration: float) -> Outcome:
@@ -381,6 +385,7 @@ class Evaluator:
         stop: bool = False,
         no_spill: Sequence[bool] = (),
         duration: float | None = None,
+        resume: Sequence[MemberState | None] = (),
     ) -> Run:
         """Run ``variants``; with ``stop``, judged only for the verdict: failing members stop
         early (those marked in ``no_spill`` even before their valve has shut, for a cavity)
@@ -392,6 +397,9 @@ class Evaluator:
             extra = {"stop": rule, "samples": VERDICT_SAMPLES}
         if duration is not None:
             extra["duration"] = duration
+            extra["keep_state"] = True  # a cut member goes on from here when run whole
+        if any(r is not None for r in resume):
+            extra["resume"] = resume
         return simulate(
             self.route,
             self.fluid,
@@ -423,7 +431,7 @@ class Evaluator:
             cc = dataclasses.replace(cc, spill=None, spill_ok=None)
         out = summarise(cc, self.atmosphere_abs, run.variants[member].label, run.duration)
         if cut and out.limits_ok:
-            out = dataclasses.replace(out, provisional=True)
+            out = dataclasses.replace(out, provisional=True, state=run.states[member])
         return dataclasses.replace(out, check=cc) if keep else out
 
     def _run_group(
@@ -432,12 +440,13 @@ class Evaluator:
         keep: bool,
         no_spill: Sequence[bool] = (),
         duration: float | None = None,
+        resume: Sequence[MemberState | None] = (),
     ) -> list[Outcome]:
         """Run one batch; members found to have no steady state are left out (and noted).
         Without ``keep``, a member that has broken a limit for good is stopped early. With a
         ``duration`` (a horizon), the batch runs that long and its passes are provisional."""
         try:
-            run = self._simulate(variants, stop=not keep, no_spill=no_spill, duration=duration)
+            run = self._simulate(variants, not keep, no_spill, duration, resume)
         except SteadyStateError:
             for v in {self._key(v): v for v in variants}.values():
                 self._probe(v)
@@ -446,7 +455,8 @@ class Evaluator:
                 raise
             rest = [variants[i] for i in kept]
             free = [no_spill[i] for i in kept] if no_spill else []
-            return self._run_group(rest, keep, free, duration) if rest else []
+            again = [resume[i] for i in kept] if resume else []
+            return self._run_group(rest, keep, free, duration, again) if rest else []
         self.passes += 1
         self.members += len(variants)
         self.node_updates += int(getattr(run, "node_updates", 0))
@@ -479,6 +489,7 @@ class Evaluator:
         keep: bool = False,
         no_spill: Sequence[bool] | None = None,
         horizons: Sequence[float | None] | None = None,
+        resume: Sequence[Outcome | None] | None = None,
     ) -> list[Outcome]:
         """Run and judge ``variants``; one :class:`Outcome` each, in order.
 
@@ -490,6 +501,9 @@ class Evaluator:
         run it for now: a member whose horizon is well short of its whole simulated time
         (below ``CUT_SHARE`` of :meth:`whole_duration`) runs only that far, in batches of its
         own, and a pass by then is ``provisional`` (a failure is a failure). Not with ``keep``.
+        ``resume`` gives, per member, a provisional outcome of the same variant to go on from
+        (its ``state``): the member is run whole from there, through the same steps as a run
+        from the start.
         """
         variants = list(variants)
         results: list[Outcome | None] = [None] * len(variants)
@@ -520,7 +534,13 @@ class Evaluator:
         def work(job: tuple[list[int], float | None]) -> list[tuple[int, Outcome]]:
             group, duration = job
             free = [no_spill[i] for i in group] if no_spill is not None else []
-            outs = iter(self._run_group([variants[i] for i in group], keep, free, duration))
+            states = [
+                o.state if o is not None and duration is None and not keep else None
+                for o in (resume[i] if resume is not None else None for i in group)
+            ]
+            outs = iter(
+                self._run_group([variants[i] for i in group], keep, free, duration, states)
+            )
             done = []
             for i in group:
                 key = self._key(variants[i])

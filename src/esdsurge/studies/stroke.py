@@ -675,8 +675,8 @@ def stroke_window(
         requests: dict[float, set[int]], keep: bool = False, whole: bool = False
     ) -> list[Outcome]:
         """Run the requested members not yet run (with ``keep``, all of them, kept whole;
-        with ``whole``, also those run only provisionally); the others up to their
-        :func:`horizon`."""
+        with ``whole``, also those run only provisionally, on from their horizon); the others
+        up to their :func:`horizon`."""
         todo = [
             (v, m)
             for v, ms in sorted(requests.items())
@@ -696,8 +696,10 @@ def stroke_window(
                 for (v, m), var, free in zip(todo, variants, no_spill, strict=True)
             ]
         )
+        # a provisional sample run whole goes on from where it was left
+        resume = [samples[v][m] if whole and v in samples else None for v, m in todo]
         outs = (
-            ev.evaluate(variants, keep=keep, no_spill=no_spill, horizons=horizons)
+            ev.evaluate(variants, keep, no_spill, horizons=horizons, resume=resume)
             if variants
             else []
         )
