@@ -538,9 +538,7 @@ class Evaluator:
                 o.state if o is not None and duration is None and not keep else None
                 for o in (resume[i] if resume is not None else None for i in group)
             ]
-            outs = iter(
-                self._run_group([variants[i] for i in group], keep, free, duration, states)
-            )
+            outs = iter(self._run_group([variants[i] for i in group], keep, free, duration, states))
             done = []
             for i in group:
                 key = self._key(variants[i])
