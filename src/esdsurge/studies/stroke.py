@@ -71,6 +71,9 @@ COARSE = 12
 MARGIN = 0.2
 #: most refinement passes
 MAX_PASSES = 30
+#: the file's own stroke, always scanned, takes the place of a scanned stroke this close to
+#: it [-]
+OWN_NEAR = 0.05
 #: a refinement sample runs only until a little after its failing neighbours broke their
 #: limits (:func:`stroke_window`'s ``horizon``): their stop time, stretched by this share ...
 HORIZON_SHARE = 0.05
@@ -529,8 +532,9 @@ def stroke_window(
     The coarse scan runs in two steps: its longer half first, its shorter half only when the
     window may reach into it (no failing stroke was found below a passing one). Strokes below
     the longest failing stroke under the window are not explored. The file's own stroke (or
-    slow stage) is always among the scanned values. A refinement sample runs first only to a
-    horizon (``horizon``); the ends of a window are run whole before it is reported.
+    slow stage) is always among the scanned values, in place of a scanned value within
+    ``OWN_NEAR`` of it. A refinement sample runs first only to a horizon (``horizon``); the
+    ends of a window are run whole before it is reported.
     """
     t_start = time.perf_counter()
     if stage not in STAGES:
@@ -757,7 +761,10 @@ def stroke_window(
         # between samples
         own = on_lattice(stroke_file - t_fast, STEP)
         if own is not None and floor <= own <= scan_top and own not in coarse_pts:
-            upper = sorted([*upper, own])
+            # in place of a scanned stroke within OWN_NEAR of it (not the scan's top): the
+            # two would say the same
+            near = [v for v in upper if abs(v / own - 1.0) <= OWN_NEAR and v != upper[-1]]
+            upper = sorted([v for v in upper if v not in near[:1]] + [own])
         run({v: set(all_members) for v in upper})
         refine_ends(not lower, alone and (os.cpu_count() or 1) > 1)
 
