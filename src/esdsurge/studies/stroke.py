@@ -80,6 +80,9 @@ HORIZON_SHARE = 0.05
 #: ... plus this many pipeline periods; a pass by then steers the search, and a sample that
 #: becomes an end of the window is run whole before it is reported
 HORIZON_PERIODS = 1.0
+#: a sample whose spill is needed runs at least this many periods past its shut, so that its
+#: spill is whole (a period spans at least 128 time steps: ``ROUTE_REACHES``)
+SPILL_PAST = 0.1
 #: what ``stage`` may be: the whole stroke, or the last stage of a staged closure
 STAGES = ("whole", "slow")
 
@@ -672,7 +675,7 @@ def stroke_window(
         if not times and not spill_fail:
             return None
         if not no_spill:
-            times.append(ev.shut_time(variant) + ev.period)
+            times.append(ev.shut_time(variant) + SPILL_PAST * ev.period)
         return max(times)
 
     def run(
