@@ -137,29 +137,12 @@ OUTPUTS = (
     "brvol_rest",
 )
 #: the outputs that a resumed member starts from (copied in from the run it resumes, member by
-#: member); the series are not among them: a resumed member's samples up to its start are NaN
-RESUMED = (
-    "env_hmax",
-    "env_kmax",
-    "env_hmin",
-    "env_kmin",
-    "env_vmax",
-    "env_kv",
-    "pt_hmax",
-    "pt_kmax",
-    "pt_hmin",
-    "pt_kmin",
-    "vol_through",
-    "h_end",
-    "vol_end",
-    "br_out",
-    "qu_end",
-    "qd_end",
-    "qconn_end",
-    "qconr_end",
-    "work_end",
-    "row_end",
-    "pth_end",
+#: member): all but the series (a resumed member's samples up to its start are NaN), the stop
+#: step and the last step's rests (added to the volumes when the state is kept)
+RESUMED = tuple(
+    k
+    for k in OUTPUTS
+    if k not in ("ser_h", "ser_q", "ser_s", "ser_bq", "ser_bs", "stopped", "vol_rest", "brvol_rest")
 )
 #: columns of br_out[member, branch, :]
 B_VOL, B_QMAX, B_KQMAX, B_SMIN, B_SMAX, B_SAT = range(6)
